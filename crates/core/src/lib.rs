@@ -1,0 +1,23 @@
+//! # rungs-core: the numerics of Rungs
+//!
+//! Everything Rungs computes lives here: reading spectroscopic tables from text, unit and mass
+//! handling, weighted least-squares fits of vibrational term values, the extrapolations to the
+//! dissociation limit (Birge–Sponer, LeRoy–Bernstein), their statistical and model uncertainty,
+//! potentials (Morse, RKR) and the radial Schrödinger solver.
+//!
+//! Architecture invariants (see DEVELOPERS.md):
+//! - core does no IO: it takes text or values and returns values;
+//! - core never panics on user data: failures are [`Error`] values, non-convergence is a result;
+//! - core knows nothing of JavaScript, the DOM or the terminal;
+//! - energies are in cm⁻¹, distances in Å and masses in u inside core; names carry the unit.
+
+pub mod constants;
+pub mod data;
+pub mod error;
+pub mod lsq;
+pub mod settings;
+
+pub use error::{Error, Result};
+
+/// Version of the Rungs numerics, stamped into every report and exported document.
+pub const VERSION: &str = env!("CARGO_PKG_VERSION");
