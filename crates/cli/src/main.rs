@@ -1,7 +1,38 @@
 //! # rungs: command line over rungs-core
 //!
-//! Thin glue: reads files, calls core, prints text or JSON. Nothing is computed here.
+//! Thin glue: reads files, calls core, prints text or JSON. Nothing is computed here; every
+//! number comes from rungs-core, exactly as in the page.
+//!
+//! Exit codes: 0 success, 1 internal failure, 2 unusable input or bad arguments.
 
-fn main() {
-    println!("rungs {}", rungs_core::VERSION);
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand};
+
+/// Vibrational analysis of diatomic molecules: constants, numbering, dissociation limits.
+#[derive(Debug, Parser)]
+#[command(name = "rungs", version, about)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+enum Command {
+    /// Print the version of the numerics and the constants set.
+    Version,
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    match cli.command {
+        Command::Version => {
+            println!(
+                "rungs {} (constants: CODATA {})",
+                rungs_core::VERSION,
+                rungs_core::constants::CODATA_YEAR
+            );
+            ExitCode::SUCCESS
+        }
+    }
 }
