@@ -1,0 +1,87 @@
+# Shared helpers for the scripts in this folder. Source it; do not run it.
+# Every ensure_* function checks before installing, so running it twice costs nothing.
+
+set -euo pipefail
+
+ROOT="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
+export PATH="$HOME/.cargo/bin:$PATH"
+WASM_TARGET=wasm32-unknown-unknown
+WASM_PROFILE=wasm-release
+
+say() { printf '\033[1m==> %s\033[0m\n' "$*"; }
+
+# The wasm-bindgen version pinned in Cargo.lock; the CLI must match it exactly.
+wasm_bindgen_version() {
+    awk '/^name = "wasm-bindgen"$/ { getline; gsub(/version = |"/, ""); print; exit }' "$ROOT/Cargo.lock"
+}
+
+ensure_wasm_target() {
+    if ! rustup target list --installed | grep -qx "$WASM_TARGET"; then
+        say "installing the $WASM_TARGET target"
+        rustup target add "$WASM_TARGET"
+    fi
+}
+
+ensure_wasm_bindgen() {
+    local want
+    want="$(wasm_bindgen_version)"
+    if [ -z "$want" ]; then
+        echo "cannot find the wasm-bindgen version in Cargo.lock" >&2
+        return 1
+    fi
+    if command -v wasm-bindgen >/dev/null 2>&1 && [ "$(wasm-bindgen --version | awk '{print $2}')" = "$want" ]; then
+        return 0
+    fi
+    say "installing wasm-bindgen-cli $want (a few minutes, once)"
+    # --locked fails on this registry (the CLI's lockfile pins a version it does not serve):
+    # try it, then fall back to an unlocked install of the exact same CLI version.
+    cargo install wasm-bindgen-cli --version "=$want" --locked \
+        || cargo install wasm-bindgen-cli --version "=$want"
+}
+
+ensure_npm() {
+    # node_modules/.package-lock.json is npm's record of what is installed; when it matches the
+    # committed lockfile's packages there is nothing to do.
+    if [ -f "$ROOT/node_modules/.package-lock.json" ] \
+        && [ "$ROOT/node_modules/.package-lock.json" -nt "$ROOT/package-lock.json" ]; then
+        return 0
+    fi
+    say "installing npm packages from package-lock.json"
+    (cd "$ROOT" && npm ci --no-audit --no-fund)
+}
+
+# Build the release wasm module and its JS glue into web/pkg.
+build_wasm() {
+    ensure_wasm_target
+    ensure_wasm_bindgen
+    ensure_npm
+    say "building the release wasm module"
+    (cd "$ROOT" && cargo build --profile "$WASM_PROFILE" --target "$WASM_TARGET" -p rungs-wasm)
+    local raw="$ROOT/target/$WASM_TARGET/$WASM_PROFILE/rungs_wasm.wasm"
+    rm -rf "$ROOT/web/pkg"
+    wasm-bindgen --target web --no-typescript --remove-name-section --remove-producers-section \
+        --out-dir "$ROOT/web/pkg" "$raw"
+    "$ROOT/node_modules/.bin/wasm-opt" -Oz \
+        "$ROOT/web/pkg/rungs_wasm_bg.wasm" -o "$ROOT/web/pkg/rungs_wasm_bg.wasm"
+}
+
+# Print the size of the release module, raw and gzip-compressed.
+report_wasm_size() {
+    local f="$ROOT/web/pkg/rungs_wasm_bg.wasm"
+    local raw gz
+    raw=$(wc -c <"$f")
+    gz=$(gzip -9 -c "$f" | wc -c)
+    awk -v r="$raw" -v g="$gz" \
+        'BEGIN { printf "wasm size: %d bytes raw (%.1f KiB), %d bytes gzip -9 (%.1f KiB)\n", r, r/1024, g, g/1024 }'
+}
+
+ensure_rust_components() {
+    local have
+    have="$(rustup component list --installed 2>/dev/null || true)"
+    for c in rustfmt clippy; do
+        if ! grep -q "^$c" <<<"$have"; then
+            say "installing rustup component $c"
+            rustup component add "$c"
+        fi
+    done
+}
