@@ -279,8 +279,8 @@ fn padded((lo, hi): (f64, f64), frac: f64) -> (f64, f64) {
 }
 
 /// Draw `chart` on `area`. Returns where the data landed, for pointer read-outs.
-pub fn draw<'a, DB: DrawingBackend>(
-    area: &'a DrawingArea<DB, Shift>,
+pub fn draw<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
     chart: &XyChart,
     theme: Theme,
 ) -> Result<Frame, PlotError> {
