@@ -230,7 +230,11 @@ pub(crate) fn read_records(text: &str, delimiter: Option<Delimiter>) -> Result<R
                 if cells.iter().all(String::is_empty) {
                     continue;
                 }
-                let span = cells.iter().map(|c| c.matches('\n').count()).sum::<usize>();
+                // Count line breaks in the untrimmed cells: trimming may remove some.
+                let span = record
+                    .iter()
+                    .map(|f| f.matches('\n').count())
+                    .sum::<usize>();
                 records.push(Record {
                     line,
                     last_line: line + span,
