@@ -1368,10 +1368,9 @@ fn resolve_units(
             format!(
                 "wavelengths must say whether they were measured in air or in vacuum: write e.g. \
                  '{} ({u}, air)' or choose the unit {u}-air or {u}-vac",
-                if c.name.is_empty() {
-                    "lambda"
-                } else {
-                    c.name.as_str()
+                match c.name.split(['(', '[', '/']).next().map(str::trim) {
+                    Some(n) if !n.is_empty() => n,
+                    _ => "lambda",
                 }
             ),
         )
@@ -1390,9 +1389,10 @@ fn resolve_units(
         } else if let Some(UnitText::Unit(u)) = info.unit {
             (u, Provenance::Header)
         } else if let Some(UnitText::WavelengthNoMedium { angstrom }) = info.unit {
-            match info.medium.or(default_medium) {
-                Some(m) => (with_medium(angstrom, m), Provenance::Header),
-                None => return Err(no_medium_error(c, angstrom)),
+            match (info.medium, default_medium) {
+                (Some(m), _) => (with_medium(angstrom, m), Provenance::Header),
+                (None, Some(m)) => (with_medium(angstrom, m), Provenance::DefaultUnit),
+                (None, None) => return Err(no_medium_error(c, angstrom)),
             }
         } else if let Some(u) = default {
             if let Some(bad) = &info.unknown_unit {
