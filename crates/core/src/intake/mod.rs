@@ -600,10 +600,13 @@ impl DataSet {
             return Ok(());
         }
         let what = if groups.len() > 1 {
+            let tag = match best.and_then(|b| b.0) {
+                Some(t) => format!("'{t}'"),
+                None => "rows without a tag".to_string(),
+            };
             format!(
-                "{} of one isotopologue (largest group: '{}')",
-                self.kind.what(),
-                best.and_then(|b| b.0).unwrap_or("")
+                "{} of one isotopologue (largest group: {tag})",
+                self.kind.what()
             )
         } else {
             self.kind.what().to_string()
@@ -780,6 +783,13 @@ pub fn read_table(text: &str, options: &IntakeOptions) -> Result<DataSet> {
     } else {
         records
     };
+    let header = header.map(|(line, cells)| {
+        if raw.delimiter == Delimiter::Whitespace && cells.len() > mode_width(data) {
+            (line, merge_header_words(cells))
+        } else {
+            (line, cells)
+        }
+    });
     let ncols = match &header {
         Some((_, cells)) => cells.len().max(1),
         None => mode_width(data).max(1),
@@ -978,7 +988,31 @@ fn looks_like_header(records: &[table::Record]) -> bool {
         .iter()
         .any(|c| !matches!(header::analyse(c).role, HeaderRole::Unrecognised));
     let next_text = records.get(1).map_or(0, |r| text_cells(&r.cells));
-    known || text > next_text || records.len() == 1
+    let mostly_text = text * 2 > non_empty(first);
+    known || (mostly_text && (text > next_text || records.len() == 1))
+}
+
+/// In a whitespace-separated header, units and medium words written apart from their name
+/// (`E (cm-1)`, `E / eV`, `lambda air (nm)`) become cells of their own; join them back onto
+/// the name before them.
+fn merge_header_words(cells: Vec<String>) -> Vec<String> {
+    let mut out: Vec<String> = Vec::with_capacity(cells.len());
+    for cell in cells {
+        let lower = cell.to_lowercase();
+        let attach = cell.starts_with(['(', '[', '/'])
+            || matches!(lower.as_str(), "air" | "vac" | "vacuum" | "in")
+            || out
+                .last()
+                .is_some_and(|p| p.ends_with('/') || p.to_lowercase().ends_with(" in"));
+        match out.last_mut() {
+            Some(prev) if attach => {
+                prev.push(' ');
+                prev.push_str(&cell);
+            }
+            _ => out.push(cell),
+        }
+    }
+    out
 }
 
 /// A comment line right above the first data row whose words name the columns.
@@ -997,7 +1031,14 @@ fn comment_header(
         return None;
     }
     let cells: Vec<String> = match raw.delimiter {
-        Delimiter::Whitespace => text.split_whitespace().map(str::to_string).collect(),
+        Delimiter::Whitespace => {
+            let words: Vec<String> = text.split_whitespace().map(str::to_string).collect();
+            if words.len() > first.cells.len() {
+                merge_header_words(words)
+            } else {
+                words
+            }
+        }
         d => {
             let sep = match d {
                 Delimiter::Comma => ',',

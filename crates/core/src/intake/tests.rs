@@ -265,3 +265,23 @@ fn isotopologue_groups_count_separately() {
     assert_eq!(d.rows[4].problems[0].code, ProblemCode::Duplicate);
     assert!(d.rows[4].problems[0].message.contains("isotopologue 'HCl'"));
 }
+
+#[test]
+fn whitespace_header_with_separate_units() {
+    let d = read("v   E (eV)   sigma\n0 0 0.001\n1 0.3 0.001\n2 0.5 0.001\n");
+    assert_eq!(d.columns.len(), 3);
+    assert_eq!(d.columns[1].name, "E (eV)");
+    assert_eq!(d.columns[1].unit, Some(Unit::ElectronVolt));
+    let d = read("# v'  v''  lambda air (nm)\n0 0 589.0\n1 0 580.0\n2 0 571.5\n");
+    assert_eq!(d.columns[2].unit, Some(Unit::Nanometre(Medium::Air)));
+    let d = read("v E / eV\n0 0\n1 0.3\n2 0.5\n");
+    assert_eq!(d.columns[1].unit, Some(Unit::ElectronVolt));
+}
+
+#[test]
+fn a_bad_first_row_is_not_taken_for_a_header() {
+    let d = read("0 abc\n1 100\n2 200\n3 300\n");
+    assert_eq!(d.header_row, None);
+    assert_eq!(d.rows[0].problems[0].code, ProblemCode::NotANumber);
+    assert_eq!(d.usable_count(), 3);
+}
