@@ -196,7 +196,8 @@ fn print_report(name: &str, d: &DataSet) {
         .iter()
         .filter(|n| {
             !n.column
-                .and_then(|c| d.columns.get(c - 1))
+                .and_then(|c| c.checked_sub(1))
+                .and_then(|i| d.columns.get(i))
                 .is_some_and(|c| {
                     c.note
                         .as_ref()
