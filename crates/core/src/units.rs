@@ -11,7 +11,8 @@
 //! ## Air wavelengths
 //! Air wavelengths are converted to vacuum with the dispersion formula of **B. Edlén, "The
 //! refractive index of air", Metrologia 2, 71–80 (1966)** for standard air (dry air at 15 °C,
-//! 101 325 Pa, 0.03 % CO₂) — the form also used for the IAU air/vacuum convention:
+//! 101 325 Pa, 0.03 % CO₂) — as far as we recall (from memory) also the form behind the IAU
+//! air/vacuum convention:
 //!
 //! (n − 1)·10⁸ = 8342.54 + 2 406 147 / (130 − σ²) + 15 998 / (38.9 − σ²),
 //!
