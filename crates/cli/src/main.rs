@@ -9,6 +9,8 @@ use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
 
+mod check;
+
 /// Vibrational analysis of diatomic molecules: constants, numbering, dissociation limits.
 #[derive(Debug, Parser)]
 #[command(name = "rungs", version, about)]
@@ -21,6 +23,9 @@ struct Cli {
 enum Command {
     /// Print the version of the numerics and the constants set.
     Version,
+    /// Show how a table is read (kind, column roles, units, rows used and excluded) and
+    /// whether it is usable; exit 0 when usable, 2 when not.
+    Check(check::CheckArgs),
 }
 
 fn main() -> ExitCode {
@@ -34,5 +39,6 @@ fn main() -> ExitCode {
             );
             ExitCode::SUCCESS
         }
+        Command::Check(args) => check::run(&args),
     }
 }

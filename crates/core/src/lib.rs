@@ -14,8 +14,13 @@
 pub mod constants;
 pub mod data;
 pub mod error;
+pub mod intake;
 pub mod lsq;
+pub mod masses;
+mod masses_table;
+pub mod session;
 pub mod settings;
+pub mod units;
 
 pub use error::{Error, Result};
 
