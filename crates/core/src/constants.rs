@@ -31,7 +31,12 @@ pub const BOHR_ANGSTROM: f64 = 0.529_177_210_544;
 /// With it B = C_U/(μ r²), the radial kinetic operator is −(C_U/μ) d²/dr², and 2μ/ħ² is μ/C_U
 /// (μ in u, r in Å, energies in cm⁻¹). Value 16.857 629 17 for CODATA 2022.
 pub const C_U_CM1_U_A2: f64 = PLANCK_J_S
-    / (8.0 * std::f64::consts::PI * std::f64::consts::PI * SPEED_OF_LIGHT_M_S * 100.0 * ATOMIC_MASS_KG
+    / (8.0
+        * std::f64::consts::PI
+        * std::f64::consts::PI
+        * SPEED_OF_LIGHT_M_S
+        * 100.0
+        * ATOMIC_MASS_KG
         * 1e-20);
 
 #[cfg(test)]
@@ -43,6 +48,9 @@ mod tests {
     #[test]
     fn c_u_matches_codata_2022() {
         let expected = 16.857_629_168_087_765;
-        assert!((C_U_CM1_U_A2 - expected).abs() / expected < 1e-12, "{C_U_CM1_U_A2}");
+        assert!(
+            (C_U_CM1_U_A2 - expected).abs() / expected < 1e-12,
+            "{C_U_CM1_U_A2}"
+        );
     }
 }

@@ -60,11 +60,17 @@ pub enum Error {
 impl Error {
     /// Shorthand for [`Error::Parameter`].
     pub fn parameter(name: impl Into<String>, message: impl Into<String>) -> Self {
-        Error::Parameter { name: name.into(), message: message.into() }
+        Error::Parameter {
+            name: name.into(),
+            message: message.into(),
+        }
     }
 
     /// Shorthand for [`Error::Numerical`].
     pub fn numerical(what: impl Into<String>, message: impl Into<String>) -> Self {
-        Error::Numerical { what: what.into(), message: message.into() }
+        Error::Numerical {
+            what: what.into(),
+            message: message.into(),
+        }
     }
 }

@@ -75,7 +75,9 @@ impl LinearFit {
 
     /// Standard uncertainties from the unscaled covariance (trusting the data's σ).
     pub fn sigma_unscaled(&self) -> Vec<f64> {
-        (0..self.n_params).map(|i| self.cov(i, i).max(0.0).sqrt()).collect()
+        (0..self.n_params)
+            .map(|i| self.cov(i, i).max(0.0).sqrt())
+            .collect()
     }
 
     /// Standard uncertainties scaled by √χ²_ν; `None` when there are no degrees of freedom.
@@ -107,6 +109,7 @@ impl LinearFit {
 const RANK_TOL: f64 = 1e-13;
 
 /// Fit y ≈ Xβ by weighted least squares.
+#[allow(clippy::needless_range_loop)] // index loops mirror the matrix algebra
 ///
 /// `design` is n × p with n ≥ p. Fails (never panics) on mismatched sizes, non-finite input,
 /// non-positive σ, a covariance that is not positive definite, or a rank-deficient design
@@ -114,16 +117,26 @@ const RANK_TOL: f64 = 1e-13;
 pub fn fit(design: &DMatrix<f64>, y: &[f64], weights: Weights<'_>) -> Result<LinearFit> {
     let (n, p) = design.shape();
     if y.len() != n {
-        return Err(Error::numerical("least squares", format!("{} rows in design but {} data", n, y.len())));
+        return Err(Error::numerical(
+            "least squares",
+            format!("{} rows in design but {} data", n, y.len()),
+        ));
     }
     if p == 0 {
         return Err(Error::numerical("least squares", "no parameters to fit"));
     }
     if n < p {
-        return Err(Error::TooFewPoints { what: format!("a {p}-parameter fit"), have: n, need: p });
+        return Err(Error::TooFewPoints {
+            what: format!("a {p}-parameter fit"),
+            have: n,
+            need: p,
+        });
     }
     if design.iter().chain(y.iter()).any(|x| !x.is_finite()) {
-        return Err(Error::numerical("least squares", "non-finite value in the data or design"));
+        return Err(Error::numerical(
+            "least squares",
+            "non-finite value in the data or design",
+        ));
     }
     let yv = DVector::from_column_slice(y);
 
@@ -132,12 +145,19 @@ pub fn fit(design: &DMatrix<f64>, y: &[f64], weights: Weights<'_>) -> Result<Lin
         Weights::Unit => (design.clone(), yv.clone(), false),
         Weights::Sigma(sigma) => {
             if sigma.len() != n {
-                return Err(Error::numerical("least squares", format!("{} σ for {} data", sigma.len(), n)));
+                return Err(Error::numerical(
+                    "least squares",
+                    format!("{} σ for {} data", sigma.len(), n),
+                ));
             }
             if let Some(i) = sigma.iter().position(|s| !(s.is_finite() && *s > 0.0)) {
                 return Err(Error::numerical(
                     "least squares",
-                    format!("uncertainty of point {} is {} (must be finite and > 0)", i + 1, sigma[i]),
+                    format!(
+                        "uncertainty of point {} is {} (must be finite and > 0)",
+                        i + 1,
+                        sigma[i]
+                    ),
                 ));
             }
             let mut xw = design.clone();
@@ -151,7 +171,10 @@ pub fn fit(design: &DMatrix<f64>, y: &[f64], weights: Weights<'_>) -> Result<Lin
         }
         Weights::Covariance(cov) => {
             if cov.shape() != (n, n) {
-                return Err(Error::numerical("least squares", "data covariance has the wrong size"));
+                return Err(Error::numerical(
+                    "least squares",
+                    "data covariance has the wrong size",
+                ));
             }
             let chol = nalgebra::Cholesky::new(cov.clone()).ok_or_else(|| {
                 Error::numerical("least squares", "data covariance is not positive definite")
@@ -184,17 +207,24 @@ pub fn fit(design: &DMatrix<f64>, y: &[f64], weights: Weights<'_>) -> Result<Lin
 
     let svd = a.clone().svd(true, true);
     let (Some(u), Some(v_t)) = (svd.u.as_ref(), svd.v_t.as_ref()) else {
-        return Err(Error::numerical("least squares", "singular value decomposition failed"));
+        return Err(Error::numerical(
+            "least squares",
+            "singular value decomposition failed",
+        ));
     };
     let s = &svd.singular_values;
     let s_max = s.max();
     let s_min = s.min();
-    if !(s_min > RANK_TOL * s_max) {
+    if s_min.is_nan() || s_min <= RANK_TOL * s_max {
         return Err(Error::numerical(
             "least squares",
             format!(
                 "the data do not determine all {p} parameters (design rank deficient, condition number {:.3e})",
-                if s_min > 0.0 { s_max / s_min } else { f64::INFINITY }
+                if s_min > 0.0 {
+                    s_max / s_min
+                } else {
+                    f64::INFINITY
+                }
             ),
         ));
     }
