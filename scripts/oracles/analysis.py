@@ -144,9 +144,11 @@ DOMAIN_AU = {3: 32522.785, 5: 9107.3073, 6: 4819.3795, 8: 1349.5637}
 
 
 def pure_tail_fixtures():
-    mu = 20.0
+    # mu and C_n chosen so that the fitted levels span ~1000 cm-1 below the limit (a tail that
+    # spans only 1e-5 cm-1 would not determine v_D beyond double-precision rounding).
+    mu = 7.0
     cases = []
-    for n, cn, v_d in [(3, 2.0e5, 20.63), (4, 5.0e5, 20.41), (5, 2.0e6, 20.27), (6, 7.5e6, 20.83), (8, 1.0e8, 20.55)]:
+    for n, cn, v_d in [(3, 209.0, 20.63), (4, 1370.0, 20.41), (5, 8290.0, 20.27), (6, 86900.0, 20.83), (8, 5.42e6, 20.55)]:
         f_n = n * ss.gamma(1 + 1 / n) / ss.gamma(0.5 + 1 / n)
         p_n = f_n * math.sqrt(4 * math.pi * C_U)
         fd, pd = DOMAIN_FN_PN[n]
@@ -433,12 +435,22 @@ def handbook_fixtures():
 
 
 def main():
-    morse_fixtures()
-    harmonic_fixtures()
-    pure_tail_fixtures()
-    lj = lj_fixtures()
-    lsq_fixtures(lj)
-    handbook_fixtures()
+    only = set(sys.argv[1:])  # e.g. "pure_tail" to regenerate one fixture; default: all
+
+    def want(name):
+        return not only or name in only
+
+    if want("morse"):
+        morse_fixtures()
+    if want("no_limit"):
+        harmonic_fixtures()
+    if want("pure_tail"):
+        pure_tail_fixtures()
+    if want("lennard_jones") or want("lsq"):
+        lj = lj_fixtures()
+        lsq_fixtures(lj)
+    if want("handbook"):
+        handbook_fixtures()
     return 0
 
 

@@ -282,7 +282,8 @@ pub fn solve<M: LmModel<P>, const P: usize>(
     let mut nu = 2.0;
     let mut termination = Termination::MaxIterations;
     let mut it = 0;
-    let exact_floor = |c: f64| c <= 1e-26 * (1.0 + scale0 * scale0);
+    // Exact data: whitened residuals at the rounding level of the whitened data.
+    let exact_floor = |c: f64| c <= m as f64 * (4e-16 * scale0).powi(2);
     if exact_floor(chi2) {
         termination = Termination::ExactFit;
     } else {
