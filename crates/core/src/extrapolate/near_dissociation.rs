@@ -136,10 +136,11 @@ impl LmModel<4> for FreeN {
         let p = exponent(n);
         let dp = -4.0 / ((n - 2.0) * (n - 2.0));
         let u = t[1] - v;
-        let up = u.powf(p);
+        let lu = u.ln();
+        let up = (p * lu).exp();
         (
             t[0] - t[2] * up,
-            [1.0, -t[2] * p * up / u, -up, -t[2] * up * u.ln() * dp],
+            [1.0, -t[2] * p * up / u, -up, -t[2] * up * lu * dp],
         )
     }
     fn valid(&self, t: &[f64; 4], v: &[f64]) -> bool {

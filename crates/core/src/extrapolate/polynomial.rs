@@ -54,7 +54,8 @@ pub struct PolyEstimate {
 #[derive(Debug, Clone)]
 pub struct PolyEstimator {
     basis: ChebBasis,
-    operator: nalgebra::DMatrix<f64>,
+    /// Row-major K × N solution operator (a = S y).
+    operator: Vec<f64>,
     v_bottom: f64,
     v_top: f64,
     search_end: f64,
@@ -197,7 +198,9 @@ pub fn extrapolate(
     };
     let mut est = PolyEstimator {
         basis,
-        operator: op.clone(),
+        operator: (0..k)
+            .flat_map(|j| op.row(j).iter().copied().collect::<Vec<_>>())
+            .collect(),
         v_bottom: ctx.v_bottom,
         v_top: ctx.v_top,
         search_end,
@@ -347,12 +350,10 @@ impl Redraw for PolyEstimator {
         if !self.nominal_vd.is_finite() {
             return DrawValue::Failed;
         }
+        let n = y.len();
         for j in 0..self.order {
-            let mut acc = 0.0;
-            for (i, yi) in y.iter().enumerate() {
-                acc += self.operator[(j, i)] * yi;
-            }
-            self.a[j] = acc;
+            let row = &self.operator[j * n..(j + 1) * n];
+            self.a[j] = row.iter().zip(y).map(|(s, y)| s * y).sum();
         }
         let a = &self.a;
         let (_, s_bottom, _) = self.basis.eval(a, self.v_bottom);
