@@ -134,6 +134,14 @@ pub fn analyze_spacings(
     run(data, source, mu_u, settings, &[])
 }
 
+fn policy_text(p: SigmaScaling) -> &'static str {
+    match p {
+        SigmaScaling::Never => "never scale",
+        SigmaScaling::WhenAboveOne => "scale by √χ²_ν when χ²_ν > 1",
+        SigmaScaling::Always => "always scale by √χ²_ν",
+    }
+}
+
 fn check_settings(s: &AnalysisSettings, mu_u: Option<f64>) -> Result<()> {
     if !(s.lb_n.is_finite() && s.lb_n > 2.0 && s.lb_n <= 50.0) {
         return Err(Error::parameter(
@@ -374,14 +382,14 @@ fn run(
             };
             let what = if f2 == 1.0 {
                 format!(
-                    "data σ used as given (χ²_ν = {c:.3} of the order-{k_sel} fit; scaling policy {:?})",
-                    settings.sigma_scaling
+                    "data σ used as given (χ²_ν = {c:.3} of the order-{k_sel} fit; scaling policy: {})",
+                    policy_text(settings.sigma_scaling)
                 )
             } else {
                 format!(
-                    "data σ scaled by √χ²_ν = {:.4} of the order-{k_sel} fit (policy {:?})",
+                    "data σ scaled by √χ²_ν = {:.4} of the order-{k_sel} fit (scaling policy: {})",
                     f2.sqrt(),
-                    settings.sigma_scaling
+                    policy_text(settings.sigma_scaling)
                 )
             };
             (f2, f2 > 0.0, what)

@@ -389,12 +389,19 @@ pub fn fit(input: &LbInput, variant: LbVariant) -> LbOutcome {
         }
     };
     if !termination.converged() {
-        return no_limit(
+        let at_edge =
+            matches!(variant, LbVariant::FreeN { .. }) && (theta[3] > 50.0 || theta[3] < 2.2);
+        let why = if at_edge {
+            format!(
+                "the near-dissociation fit with n free did not converge: n runs to the edge of its range (n = {:.2} after {iterations} iterations; {termination:?}); the levels do not determine n (n → ∞ means Morse-like, quadratic levels)",
+                theta[3]
+            )
+        } else {
             format!(
                 "the near-dissociation fit did not converge ({termination:?} after {iterations} iterations)"
-            ),
-            Some(termination),
-        );
+            )
+        };
+        return no_limit(why, Some(termination));
     }
     let v_max = input.v.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     if theta[1] - v_max > DELTA_MAX {
