@@ -92,7 +92,7 @@ pub struct Assessment {
 
 fn pct(x: f64) -> String {
     let p = 100.0 * x;
-    if p >= 99.0 || p < 1.0 {
+    if !(1.0..99.0).contains(&p) {
         format!("{p:.2} %")
     } else {
         format!("{p:.1} %")
