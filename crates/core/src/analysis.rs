@@ -1069,8 +1069,22 @@ fn run(
     let sigma_eff: Vec<f64> = (0..n).map(|i| (cov_eff[(i, i)]).sqrt()).collect();
     let residuals: Vec<ResidualOut> = (0..n)
         .map(|i| {
+            // Externally studentized: the variance factor is re-estimated without point i
+            // wherever it is estimated from the scatter at all (an outlier must not hide by
+            // inflating the scale it is judged against).
             let h = sel.lsq.leverage[i];
-            let d = (1.0 - h) * factor2;
+            let dof = sel.lsq.dof() as f64;
+            let deleted = (dof > 1.0 && h < 1.0)
+                .then(|| ((sel.lsq.chi2 - stud[i] * stud[i] / (1.0 - h)) / (dof - 1.0)).max(0.0));
+            let f2 = match (source, settings.sigma_scaling, deleted) {
+                (SigmaSource::EstimatedFromScatter, _, Some(d)) => d,
+                (SigmaSource::EstimatedFromScatter, _, None) => factor2,
+                (_, SigmaScaling::Never, _) => 1.0,
+                (_, SigmaScaling::WhenAboveOne, Some(d)) => d.max(1.0),
+                (_, SigmaScaling::Always, Some(d)) => d,
+                (_, _, None) => factor2,
+            };
+            let d = (1.0 - h) * f2;
             let s = (estimable && d > 0.0).then(|| stud[i] / d.sqrt());
             ResidualOut {
                 v: data.v[i],

@@ -169,7 +169,8 @@ pub struct ResidualOut {
     pub residual_cm1: f64,
     /// σ as used, cm⁻¹.
     pub sigma_cm1: Option<f64>,
-    /// Studentized residual (whitened residual over √((1 − leverage)·variance factor)).
+    /// Externally studentized residual: whitened residual over √((1 − leverage)·variance
+    /// factor), the factor re-estimated without this point where it comes from the scatter.
     pub studentized: Option<f64>,
     /// |studentized| above the threshold.
     pub outlier: bool,

@@ -803,3 +803,141 @@ fn bad_input_is_an_error_not_a_panic() {
     let r = analyze_levels(&[l(0, None), l(1, None)], None, None, &s).expect("two levels");
     assert!(r.recommended.d0_cm1.is_none());
 }
+
+// ---------------------------------------------------------------------------------------------
+// Refusal, outliers, unit weights, gaps
+// ---------------------------------------------------------------------------------------------
+
+fn morse(we: f64, wexe: f64, vs: std::ops::Range<u32>, sigma: Option<f64>) -> Vec<Level> {
+    vs.map(|v| {
+        let x = v as f64 + 0.5;
+        Level {
+            v,
+            energy_cm1: we * x - wexe * x * x,
+            sigma_cm1: sigma,
+            b_cm1: None,
+            isotopologue: None,
+        }
+    })
+    .collect()
+}
+
+/// SOURCE: domain.md §2.1 vector A (v_D = 49.5) and the refusal rule of issue 4 (common
+/// practice: never extrapolate a high-order polynomial far). Exact quadratic levels 0–5 fitted
+/// with a cubic still put dG/dv = 0 at v = 49.5 (1e-6), 8.9 observed ranges above the data:
+/// refused, with the root reported; the linear line is kept.
+#[test]
+fn curved_extrapolation_far_beyond_the_data_is_refused() {
+    let r =
+        analyze_levels(&morse(1000.0, 10.0, 0..6, Some(0.01)), None, None, &quick()).expect("r");
+    let c = est(&r, "birge-sponer-curved");
+    assert!(
+        c.d0_cm1.is_none() && c.reason.starts_with("refused"),
+        "{}",
+        c.reason
+    );
+    let root = c
+        .birge_sponer
+        .as_ref()
+        .expect("bs")
+        .refused_root_v
+        .expect("root");
+    assert!((root - 49.5).abs() < 1e-6, "{root}");
+    assert!(est(&r, "birge-sponer-linear").d0_cm1.is_some());
+    let text = render_text(&r);
+    assert!(text.contains("Recommended") && text.contains("refused") && text.contains("ωexe"));
+}
+
+/// Common practice (studentized residuals, no source): one level shifted by 40σ in otherwise
+/// exact Morse levels with σ = 0.01 is flagged as a possible outlier, and a warning names it.
+#[test]
+fn shifted_level_is_flagged() {
+    let mut levels = morse(1000.0, 10.0, 0..10, Some(0.01));
+    levels[6].energy_cm1 += 0.4;
+    let s = AnalysisSettings {
+        order: Some(2),
+        ..quick()
+    };
+    let r = analyze_levels(&levels, None, None, &s).expect("r");
+    let flagged: Vec<f64> = r
+        .fit
+        .residuals
+        .iter()
+        .filter(|x| x.outlier)
+        .map(|x| x.v)
+        .collect();
+    assert_eq!(flagged, vec![6.0]);
+    assert!(
+        r.warnings
+            .iter()
+            .any(|w| w.contains("outlier") && w.contains("v = 6"))
+    );
+}
+
+/// Closed form (common practice): with no σ given, σ is estimated as s = √(RSS/dof) of the
+/// selected fit, and the observed sum of independent levels then has σ = s√2 (two levels only).
+/// Tolerance 1e-12 relative.
+#[test]
+fn unit_weights_use_the_scatter() {
+    let noise = [0.02, -0.01, 0.03, -0.02, 0.0, 0.01, -0.03, 0.02];
+    let mut levels = morse(800.0, 6.0, 0..8, None);
+    for (l, n) in levels.iter_mut().zip(noise) {
+        l.energy_cm1 += n;
+    }
+    let s = AnalysisSettings {
+        order: Some(2),
+        ..quick()
+    };
+    let r = analyze_levels(&levels, None, None, &s).expect("r");
+    assert_eq!(
+        r.input.sigma_source,
+        rungs_core::report::SigmaSource::EstimatedFromScatter
+    );
+    let sd = (r.fit.chi2 / r.fit.dof as f64).sqrt();
+    check("scale", r.uncertainty.scale_factor.expect("s"), sd, 1e-12);
+    check(
+        "observed σ",
+        est(&r, "observed-sum").d0_sigma_cm1.expect("σ"),
+        sd * 2f64.sqrt(),
+        1e-12,
+    );
+    assert!(
+        r.constants
+            .we_cm1
+            .as_ref()
+            .expect("we")
+            .sigma_unscaled
+            .is_none()
+    );
+}
+
+/// A gap in given spacings: nothing can be telescoped across it, so the observed sum and the
+/// near-dissociation fits say so, while the polynomial fit (exact finite-difference rows) still
+/// recovers the Morse limit of domain.md §2.1 vector A (1e-9).
+#[test]
+fn spacings_with_a_gap() {
+    let spacings: Vec<Spacing> = [0u32, 1, 2, 4, 5, 6]
+        .iter()
+        .map(|&v| Spacing {
+            v_lower: v,
+            spacing_cm1: 1000.0 - 20.0 * (v as f64 + 1.0),
+            sigma_cm1: Some(0.02),
+            isotopologue: None,
+        })
+        .collect();
+    let r = analyze_spacings(&spacings, None, None, &quick()).expect("r");
+    check(
+        "v_D",
+        est(&r, "birge-sponer-linear").v_d.expect("v_D"),
+        49.5,
+        1e-9,
+    );
+    assert!(r.estimates.iter().all(|e| e.method != "observed-sum"));
+    let lb = est(&r, "leroy-bernstein");
+    assert!(
+        lb.d0_cm1.is_none() && lb.reason.contains("gap"),
+        "{}",
+        lb.reason
+    );
+    assert!(r.warnings.iter().any(|w| w.contains("gap")));
+}
