@@ -267,6 +267,49 @@ fn normal_eqs<const P: usize>(ws: &LmWorkspace, m: usize) -> (SMatrix<f64, P, P>
     (a, g)
 }
 
+/// Solve A x = b for a small symmetric positive-definite A by Cholesky (in-line: the generic
+/// decomposition costs more than the rest of an iteration at these sizes). `None` if A is not
+/// positive definite.
+fn chol_solve<const P: usize>(
+    a: &SMatrix<f64, P, P>,
+    b: &SVector<f64, P>,
+) -> Option<SVector<f64, P>> {
+    let mut l = [[0.0f64; P]; P];
+    for i in 0..P {
+        for j in 0..=i {
+            let mut s = a[(i, j)];
+            for k in 0..j {
+                s -= l[i][k] * l[j][k];
+            }
+            if i == j {
+                if !(s > 0.0 && s.is_finite()) {
+                    return None;
+                }
+                l[i][i] = s.sqrt();
+            } else {
+                l[i][j] = s / l[j][j];
+            }
+        }
+    }
+    let mut y = [0.0f64; P];
+    for i in 0..P {
+        let mut s = b[i];
+        for k in 0..i {
+            s -= l[i][k] * y[k];
+        }
+        y[i] = s / l[i][i];
+    }
+    let mut x = SVector::<f64, P>::zeros();
+    for i in (0..P).rev() {
+        let mut s = y[i];
+        for k in i + 1..P {
+            s -= l[k][i] * x[k];
+        }
+        x[i] = s / l[i][i];
+    }
+    Some(x)
+}
+
 /// Minimise |W(e − f(θ; v))|² from θ0.
 pub fn solve<M: LmModel<P>, const P: usize>(
     model: &M,
@@ -320,7 +363,7 @@ pub fn solve<M: LmModel<P>, const P: usize>(
             for k in 0..P {
                 damped[(k, k)] += lambda * a[(k, k)].max(1e-300);
             }
-            let Some(chol) = damped.cholesky() else {
+            let Some(delta) = chol_solve(&damped, &g) else {
                 lambda *= nu;
                 nu *= 2.0;
                 if lambda > 1e32 {
@@ -329,7 +372,7 @@ pub fn solve<M: LmModel<P>, const P: usize>(
                 }
                 continue;
             };
-            let delta = chol.solve(&g);
+
             let small = (0..P).all(|k| delta[k].abs() <= opts.xtol * (theta[k].abs() + opts.xtol));
             let mut trial = theta;
             for k in 0..P {
