@@ -110,7 +110,14 @@ impl Session {
                 ))
             }
         };
-        finite("lb_n", self.settings.lb_n)?;
+        let st = &self.settings;
+        finite("lb_n", st.lb_n)?;
+        finite("curved_max_extrapolation", st.curved_max_extrapolation)?;
+        finite("near_dissociation_coverage", st.near_dissociation_coverage)?;
+        finite("outlier_threshold", st.outlier_threshold)?;
+        if let Some(cn) = st.lb_cn_cm1_an {
+            finite("lb_cn_cm1_an", cn)?;
+        }
         if let Some(MassSpec::ReducedMass { mu_u }) = &self.settings.mass {
             finite("mass.mu_u", *mu_u)?;
         }

@@ -10,7 +10,7 @@ use rungs_core::intake::{
     UserExclusion, read_table,
 };
 use rungs_core::session::Session;
-use rungs_core::settings::{AnalysisSettings, MassSpec};
+use rungs_core::settings::{AnalysisSettings, MassSpec, SigmaScaling};
 use rungs_core::units::ALL_UNITS;
 
 fn finite_f64() -> impl Strategy<Value = f64> {
@@ -27,24 +27,57 @@ fn finite_f64() -> impl Strategy<Value = f64> {
 
 fn settings() -> impl Strategy<Value = AnalysisSettings> {
     (
-        any::<u32>(),
-        any::<u64>(),
-        finite_f64(),
-        prop::option::of(any::<u32>()),
-        prop::option::of(any::<u32>()),
-        prop::option::of(prop_oneof![
-            finite_f64().prop_map(|mu_u| MassSpec::ReducedMass { mu_u }),
-            (any::<String>(), any::<String>()).prop_map(|(a, b)| MassSpec::Nuclides { a, b }),
-        ]),
+        (
+            any::<u32>(),
+            any::<u64>(),
+            finite_f64(),
+            prop::option::of(any::<u32>()),
+            prop::option::of(any::<u32>()),
+            prop::option::of(prop_oneof![
+                finite_f64().prop_map(|mu_u| MassSpec::ReducedMass { mu_u }),
+                (any::<String>(), any::<String>()).prop_map(|(a, b)| MassSpec::Nuclides { a, b }),
+            ]),
+        ),
+        (
+            any::<u32>(),
+            any::<bool>(),
+            prop::option::of(finite_f64()),
+            prop_oneof![
+                Just(SigmaScaling::Never),
+                Just(SigmaScaling::WhenAboveOne),
+                Just(SigmaScaling::Always)
+            ],
+            finite_f64(),
+            finite_f64(),
+            finite_f64(),
+        ),
     )
         .prop_map(
-            |(mc_samples, seed, lb_n, lb_top_levels, order, mass)| AnalysisSettings {
+            |(
+                (mc_samples, seed, lb_n, lb_top_levels, order, mass),
+                (
+                    max_order,
+                    lb_fit_n_free,
+                    lb_cn_cm1_an,
+                    sigma_scaling,
+                    curved_max_extrapolation,
+                    near_dissociation_coverage,
+                    outlier_threshold,
+                ),
+            )| AnalysisSettings {
                 mc_samples,
                 seed,
                 lb_n,
                 lb_top_levels,
                 order,
                 mass,
+                max_order,
+                lb_fit_n_free,
+                lb_cn_cm1_an,
+                sigma_scaling,
+                curved_max_extrapolation,
+                near_dissociation_coverage,
+                outlier_threshold,
             },
         )
 }

@@ -88,14 +88,33 @@ struct RowDto<'a> {
 #[derive(Deserialize)]
 #[serde(rename_all = "snake_case", tag = "op")]
 enum ReadingChange {
-    Kind { kind: Option<String> },
-    Unit { unit: Option<String> },
-    Header { header: Option<bool> },
-    Delimiter { delimiter: Option<String> },
-    BandPositions { heads: Option<bool> },
-    Column { column: usize, role: Option<String>, unit: Option<String> },
-    Exclude { row: usize, reason: String },
-    Include { row: usize },
+    Kind {
+        kind: Option<String>,
+    },
+    Unit {
+        unit: Option<String>,
+    },
+    Header {
+        header: Option<bool>,
+    },
+    Delimiter {
+        delimiter: Option<String>,
+    },
+    BandPositions {
+        heads: Option<bool>,
+    },
+    Column {
+        column: usize,
+        role: Option<String>,
+        unit: Option<String>,
+    },
+    Exclude {
+        row: usize,
+        reason: String,
+    },
+    Include {
+        row: usize,
+    },
 }
 
 /// The worker-side handle: one session, its reading, and its latest analysis.
@@ -116,13 +135,20 @@ impl Workbench {
     /// An empty workbench.
     #[wasm_bindgen(constructor)]
     pub fn new() -> Workbench {
-        Workbench { session: None, data: None }
+        Workbench {
+            session: None,
+            data: None,
+        }
     }
 
     /// Read a table from text; returns the reading summary. Settings of the current session
     /// (mass, Monte Carlo…) are kept; reading choices start fresh.
     pub fn load_text(&mut self, name: Option<String>, text: String) -> Result<JsValue, JsError> {
-        let settings = self.session.as_ref().map(|s| s.settings.clone()).unwrap_or_default();
+        let settings = self
+            .session
+            .as_ref()
+            .map(|s| s.settings.clone())
+            .unwrap_or_default();
         let session = Session::new(text, name, IntakeOptions::default(), settings);
         self.install(session)
     }
@@ -141,7 +167,11 @@ impl Workbench {
 
     /// The session document as JSON (the same document the command line reads and writes).
     pub fn session_json(&self) -> Result<String, JsError> {
-        self.session.as_ref().ok_or_else(|| js_err("no data loaded"))?.to_json().map_err(js_err)
+        self.session
+            .as_ref()
+            .ok_or_else(|| js_err("no data loaded"))?
+            .to_json()
+            .map_err(js_err)
     }
 
     /// The reading summary of the current table.
@@ -170,7 +200,11 @@ impl Workbench {
                 .collect(),
             n_rows: data.rows.len(),
             n_usable: data.usable_count(),
-            n_excluded: data.rows.iter().filter(|r| r.status() == RowStatus::Excluded).count(),
+            n_excluded: data
+                .rows
+                .iter()
+                .filter(|r| r.status() == RowStatus::Excluded)
+                .count(),
             n_excluded_by_user: data
                 .rows
                 .iter()
@@ -196,7 +230,11 @@ impl Workbench {
                     .problems
                     .iter()
                     .map(|p| data.locate(r, p))
-                    .chain(r.user_reason.iter().map(|u| format!("excluded by you: {u}")))
+                    .chain(
+                        r.user_reason
+                            .iter()
+                            .map(|u| format!("excluded by you: {u}")),
+                    )
                     .collect(),
                 observation: &r.observation,
             })
@@ -212,19 +250,28 @@ impl Workbench {
         let o = &mut session.intake;
         match change {
             ReadingChange::Kind { kind } => {
-                o.kind = kind.map(|k| intake::DataKind::parse(&k)).transpose().map_err(js_err)?
+                o.kind = kind
+                    .map(|k| intake::DataKind::parse(&k))
+                    .transpose()
+                    .map_err(js_err)?
             }
             ReadingChange::Unit { unit } => {
                 o.unit = unit.map(|u| Unit::parse(&u)).transpose().map_err(js_err)?
             }
             ReadingChange::Header { header } => o.header = header,
             ReadingChange::Delimiter { delimiter } => {
-                o.delimiter =
-                    delimiter.map(|d| intake::Delimiter::parse(&d)).transpose().map_err(js_err)?
+                o.delimiter = delimiter
+                    .map(|d| intake::Delimiter::parse(&d))
+                    .transpose()
+                    .map_err(js_err)?
             }
             ReadingChange::BandPositions { heads } => {
                 o.band_positions = heads.map(|h| {
-                    if h { intake::BandPositions::Heads } else { intake::BandPositions::Origins }
+                    if h {
+                        intake::BandPositions::Heads
+                    } else {
+                        intake::BandPositions::Origins
+                    }
                 })
             }
             ReadingChange::Column { column, role, unit } => {
@@ -240,8 +287,12 @@ impl Workbench {
 
     /// Replace the analysis settings (a JSON object; missing fields take their defaults).
     pub fn set_settings(&mut self, settings: JsValue) -> Result<(), JsError> {
-        let settings: AnalysisSettings = serde_wasm_bindgen::from_value(settings).map_err(js_err)?;
-        let session = self.session.as_mut().ok_or_else(|| js_err("no data loaded"))?;
+        let settings: AnalysisSettings =
+            serde_wasm_bindgen::from_value(settings).map_err(js_err)?;
+        let session = self
+            .session
+            .as_mut()
+            .ok_or_else(|| js_err("no data loaded"))?;
         session.settings = settings;
         Ok(())
     }
