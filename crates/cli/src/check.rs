@@ -9,14 +9,9 @@ use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::Args;
-use rungs_core::Error;
-use rungs_core::intake::DataKind;
-use rungs_core::intake::{
-    BandPositions, DataSet, Delimiter, IntakeOptions, Provenance, Role, RowStatus, Severity,
-    decode, read_table,
-};
-use rungs_core::session::{SESSION_SCHEMA, Session};
-use rungs_core::units::Unit;
+use rungs_core::intake::{BandPositions, DataSet, Provenance, Role, RowStatus, Severity};
+
+use crate::input::{ReadArgs, open_session};
 
 /// Most excluded rows listed before the rest are counted.
 const MAX_LISTED: usize = 50;
@@ -26,81 +21,14 @@ const MAX_LISTED: usize = 50;
 pub struct CheckArgs {
     /// Table file (CSV, tab-, semicolon- or whitespace-separated), or a session document.
     pub file: PathBuf,
-    /// Unit of value columns whose header names none: cm-1, eV, meV, GHz, MHz, THz, kJ/mol,
-    /// kcal/mol, K, hartree, nm-air, nm-vac, A-air, A-vac.
-    #[arg(long, value_name = "U")]
-    pub unit: Option<String>,
-    /// Kind of data: levels, spacings or bands.
-    #[arg(long, value_name = "K")]
-    pub kind: Option<String>,
-    /// Band positions are band heads (default: origins).
-    #[arg(long)]
-    pub heads: bool,
-    /// Whether the first row is a header: yes or no (default: detected).
-    #[arg(long, value_name = "yes|no")]
-    pub header: Option<String>,
-    /// Cell delimiter: comma, tab, semicolon or whitespace (default: detected).
-    #[arg(long, value_name = "D")]
-    pub delimiter: Option<String>,
-    /// Role and/or unit of one column, e.g. `2=energy:eV`, `3=sigma`, `4=:nm-air`; repeatable.
-    #[arg(long = "column", value_name = "N=ROLE[:UNIT]")]
-    pub columns: Vec<String>,
+    /// How to read the table.
+    #[command(flatten)]
+    pub read: ReadArgs,
 }
 
 fn bad_argument(message: String) -> ExitCode {
     eprintln!("rungs check: {message}");
     ExitCode::from(2)
-}
-
-/// Applies the command-line choices to `options`.
-fn apply_arguments(args: &CheckArgs, options: &mut IntakeOptions) -> Result<(), Error> {
-    if let Some(u) = &args.unit {
-        options.unit = Some(Unit::parse(u)?);
-    }
-    if let Some(k) = &args.kind {
-        options.kind = Some(DataKind::parse(k)?);
-    }
-    if args.heads {
-        options.band_positions = Some(BandPositions::Heads);
-    }
-    if let Some(h) = &args.header {
-        options.header = Some(match h.to_ascii_lowercase().as_str() {
-            "yes" | "y" | "true" => true,
-            "no" | "n" | "false" => false,
-            other => {
-                return Err(Error::parameter(
-                    "header",
-                    format!("'{other}': use yes or no"),
-                ));
-            }
-        });
-    }
-    if let Some(d) = &args.delimiter {
-        options.delimiter = Some(Delimiter::parse(d)?);
-    }
-    for spec in &args.columns {
-        let (n, rest) = spec.split_once('=').ok_or_else(|| {
-            Error::parameter(
-                "column",
-                format!("'{spec}': write N=ROLE, N=ROLE:UNIT or N=:UNIT"),
-            )
-        })?;
-        let index: usize = n.trim().parse().map_err(|_| {
-            Error::parameter("column", format!("'{spec}': '{n}' is not a column number"))
-        })?;
-        let (role, unit) = match rest.split_once(':') {
-            Some((r, u)) => (r, Some(u)),
-            None => (rest, None),
-        };
-        let role = if role.trim().is_empty() {
-            None
-        } else {
-            Some(Role::parse(role)?)
-        };
-        let unit = unit.map(Unit::parse).transpose()?;
-        options.set_column(index, role, unit);
-    }
-    Ok(())
 }
 
 fn provenance(p: Provenance) -> &'static str {
@@ -221,24 +149,11 @@ fn print_report(name: &str, d: &DataSet) {
 /// Runs `rungs check`: exit 0 when the table is usable, 2 when it is not (or cannot be read).
 pub fn run(args: &CheckArgs) -> ExitCode {
     let name = args.file.display().to_string();
-    let bytes = match std::fs::read(&args.file) {
-        Ok(b) => b,
-        Err(e) => return bad_argument(format!("{name}: cannot read the file: {e}")),
+    let (session, encoding) = match open_session(&args.file, &args.read) {
+        Ok(x) => x,
+        Err(message) => return bad_argument(message),
     };
-    let (text, encoding) = decode(&bytes);
-    let (table_text, mut options) =
-        if text.trim_start().starts_with('{') && text.contains(SESSION_SCHEMA) {
-            match Session::from_json(&text) {
-                Ok(s) => (s.input.text, s.intake),
-                Err(e) => return bad_argument(format!("{name}: {e}")),
-            }
-        } else {
-            (text, IntakeOptions::default())
-        };
-    if let Err(e) = apply_arguments(args, &mut options) {
-        return bad_argument(e.to_string());
-    }
-    let data = match read_table(&table_text, &options) {
+    let data = match session.data() {
         Ok(d) => d,
         Err(e) => return bad_argument(format!("{name}: {e}")),
     };

@@ -9,7 +9,9 @@ use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
 
+mod analyze;
 mod check;
+mod input;
 
 /// Vibrational analysis of diatomic molecules: constants, numbering, dissociation limits.
 #[derive(Debug, Parser)]
@@ -26,6 +28,9 @@ enum Command {
     /// Show how a table is read (kind, column roles, units, rows used and excluded) and
     /// whether it is usable; exit 0 when usable, 2 when not.
     Check(check::CheckArgs),
+    /// Analyse levels or spacings: vibrational constants, order selection, and the
+    /// dissociation limit by every method, with statistical and model uncertainty.
+    Analyze(analyze::AnalyzeArgs),
 }
 
 fn main() -> ExitCode {
@@ -40,5 +45,6 @@ fn main() -> ExitCode {
             ExitCode::SUCCESS
         }
         Command::Check(args) => check::run(&args),
+        Command::Analyze(args) => analyze::run(&args),
     }
 }

@@ -35,6 +35,17 @@ pub fn analyze_levels(
     mu_u: Option<f64>,
     settings: &AnalysisSettings,
 ) -> Result<Report> {
+    analyze_levels_with_progress(levels, covariance, mu_u, settings, &mut |_, _| {})
+}
+
+/// [`analyze_levels`], calling `progress(done, total)` as the Monte Carlo draws advance.
+pub fn analyze_levels_with_progress(
+    levels: &[Level],
+    covariance: Option<&DMatrix<f64>>,
+    mu_u: Option<f64>,
+    settings: &AnalysisSettings,
+    progress: &mut dyn FnMut(usize, usize),
+) -> Result<Report> {
     check_settings(settings, mu_u)?;
     if levels.len() < 2 {
         return Err(Error::TooFewPoints {
@@ -78,7 +89,7 @@ pub fn analyze_levels(
         .iter()
         .filter_map(|&i| levels[i].b_cm1.map(|b| (levels[i].v as f64, b)))
         .collect();
-    run(data, source, mu_u, settings, &bv)
+    run(data, source, mu_u, settings, &bv, progress)
 }
 
 /// Analyse spacings ΔG_{v+½} (keyed by the lower level), fitted with the exact finite-difference
@@ -88,6 +99,17 @@ pub fn analyze_spacings(
     covariance: Option<&DMatrix<f64>>,
     mu_u: Option<f64>,
     settings: &AnalysisSettings,
+) -> Result<Report> {
+    analyze_spacings_with_progress(spacings, covariance, mu_u, settings, &mut |_, _| {})
+}
+
+/// [`analyze_spacings`], calling `progress(done, total)` as the Monte Carlo draws advance.
+pub fn analyze_spacings_with_progress(
+    spacings: &[Spacing],
+    covariance: Option<&DMatrix<f64>>,
+    mu_u: Option<f64>,
+    settings: &AnalysisSettings,
+    progress: &mut dyn FnMut(usize, usize),
 ) -> Result<Report> {
     check_settings(settings, mu_u)?;
     if spacings.len() < 2 {
@@ -131,7 +153,7 @@ pub fn analyze_spacings(
         cov,
         source != SigmaSource::EstimatedFromScatter,
     )?;
-    run(data, source, mu_u, settings, &[])
+    run(data, source, mu_u, settings, &[], progress)
 }
 
 fn policy_text(p: SigmaScaling) -> &'static str {
@@ -317,7 +339,15 @@ struct Work {
     curve: Option<Curve>,
     level_curve: Option<Curve>,
     lb_line: Option<(f64, f64, f64, f64)>, // (n, x0, v_d, first level v)
+    /// Why the estimate is shown but kept out of the recommendation, beyond the usual rules.
+    veto: Option<String>,
 }
+
+/// Largest long-range exponent a free-n near-dissociation fit may return and still be kept in
+/// the recommendation. Long-range forces of neutral and charged atoms go as n = 1 … 10
+/// (ion pair 1; dispersion 6, 8, 10); a fit running beyond is a sign that the levels do not
+/// determine n (domain.md §1.5; the cut-off is a choice of ours, common practice, no source).
+pub const N_FREE_PLAUSIBLE_MAX: f64 = 12.0;
 
 fn vs(x: &Lin, cov: Option<&DMatrix<f64>>) -> ValueSigma {
     ValueSigma::new(x.value, cov.map(|c| x.sigma(c)))
@@ -339,6 +369,7 @@ fn run(
     mu_u: Option<f64>,
     settings: &AnalysisSettings,
     bv: &[(f64, f64)],
+    progress: &mut dyn FnMut(usize, usize),
 ) -> Result<Report> {
     let mut warnings: Vec<String> = Vec::new();
     let n = data.len();
@@ -484,6 +515,7 @@ fn run(
             curve: None,
             level_curve: None,
             lb_line: None,
+            veto: None,
         });
     }
 
@@ -508,6 +540,7 @@ fn run(
                     curve: None,
                     level_curve: None,
                     lb_line: None,
+                    veto: None,
                 };
             }
             let fit = match get_fit(k) {
@@ -526,6 +559,7 @@ fn run(
                         curve: None,
                         level_curve: None,
                         lb_line: None,
+                        veto: None,
                     };
                 }
             };
@@ -572,6 +606,7 @@ fn run(
                 }),
                 level_curve: None,
                 lb_line: None,
+                veto: None,
             }
         };
     works.push(poly_work(
@@ -675,6 +710,7 @@ fn run(
                 curve: None,
                 level_curve: None,
                 lb_line: None,
+                veto: None,
             });
             lb_fits.push(None);
             continue;
@@ -698,6 +734,7 @@ fn run(
                 curve: None,
                 level_curve: None,
                 lb_line: None,
+                veto: None,
             });
             lb_fits.push(None);
             continue;
@@ -742,6 +779,7 @@ fn run(
                     curve: None,
                     level_curve: None,
                     lb_line: None,
+                    veto: None,
                 });
                 lb_fits.push(None);
             }
@@ -828,6 +866,11 @@ fn run(
                         v_d: Some(vdv),
                     }),
                     lb_line: Some((nv, x0v, vdv, x_first)),
+                    veto: (n_fitted && nv > N_FREE_PLAUSIBLE_MAX).then(|| {
+                        format!(
+                            "the fitted n = {nv:.1} lies outside the range of long-range exponents of real molecules (n ≤ {N_FREE_PLAUSIBLE_MAX:.0}): these levels do not determine n"
+                        )
+                    }),
                 });
                 lb_fits.push(Some(*f));
             }
@@ -866,7 +909,14 @@ fn run(
                 which.push(i);
             }
         }
-        match montecarlo::run(&data.y, &cov_eff, samples, settings.seed, &mut refs) {
+        match montecarlo::run(
+            &data.y,
+            &cov_eff,
+            samples,
+            settings.seed,
+            &mut refs,
+            progress,
+        ) {
             Ok(results) => {
                 drop(refs);
                 for (i, r) in which.into_iter().zip(results) {
@@ -915,6 +965,7 @@ fn run(
                 d0,
                 de,
                 extrapolated_fraction: ext,
+                veto: w.veto.clone(),
             }
         })
         .collect();
@@ -1295,6 +1346,8 @@ fn run(
         },
         warnings,
         plot,
+        rows: None,
+        session: None,
     })
 }
 

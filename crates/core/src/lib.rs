@@ -23,6 +23,7 @@ pub mod masses;
 mod masses_table;
 pub mod montecarlo;
 pub mod morse;
+pub mod pipeline;
 pub mod recommend;
 pub mod report;
 pub mod session;
@@ -32,6 +33,7 @@ pub mod units;
 
 pub use analysis::{analyze_levels, analyze_spacings};
 pub use error::{Error, Result};
+pub use pipeline::analyze_session;
 pub use report::{Report, render_text};
 
 /// Version of the Rungs numerics, stamped into every report and exported document.

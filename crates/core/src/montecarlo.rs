@@ -106,13 +106,18 @@ pub struct McResult {
     pub v_d: McSummary,
 }
 
-/// Run `samples` draws from N(y, cov) through every estimator.
+/// How many draws pass between two calls of the progress hook.
+pub const PROGRESS_EVERY: usize = 100;
+
+/// Run `samples` draws from N(y, cov) through every estimator. `progress(done, total)` is
+/// called every [`PROGRESS_EVERY`] draws and once at the end (the page shows a progress bar).
 pub fn run(
     y: &[f64],
     cov: &DMatrix<f64>,
     samples: usize,
     seed: u64,
     estimators: &mut [&mut dyn Redraw],
+    progress: &mut dyn FnMut(usize, usize),
 ) -> Result<Vec<McResult>> {
     let n = y.len();
     let chol = nalgebra::Cholesky::new(cov.clone()).ok_or_else(|| {
@@ -160,6 +165,9 @@ pub fn run(
             d0[e][s] = a;
             de[e][s] = b;
             vd[e][s] = c;
+        }
+        if (s + 1) % PROGRESS_EVERY == 0 || s + 1 == samples {
+            progress(s + 1, samples);
         }
     }
     Ok((0..m)

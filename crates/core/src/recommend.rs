@@ -56,6 +56,8 @@ pub struct Candidate {
     pub sigma_cov: Option<f64>,
     /// Monte Carlo 16–84 % half-width of D0.
     pub sigma_mc: Option<f64>,
+    /// A reason to keep this estimate out of the recommendation whatever the regime.
+    pub veto: Option<String>,
 }
 
 /// The recommended value.
@@ -128,6 +130,7 @@ pub fn assess(
                 "a lower bound to D0 (sum of observed spacings, no extrapolation)".to_string(),
             ),
             (_, None) => (false, "no limit from this method".to_string()),
+            _ if c.veto.is_some() => (false, c.veto.clone().unwrap_or_default()),
             (Family::NearDissociation { .. }, Some(_)) if near => (
                 true,
                 format!(
@@ -301,7 +304,31 @@ mod tests {
             extrapolated_fraction: Some(ext),
             sigma_cov: Some(1.0),
             sigma_mc: None,
+            veto: None,
         }
+    }
+
+    /// A vetoed estimate is shown but neither recommended nor part of the spread.
+    #[test]
+    fn vetoed_estimate_is_not_defensible() {
+        let mut c = vec![
+            cand(
+                "leroy-bernstein",
+                Family::NearDissociation { primary: true },
+                1000.0,
+                0.01,
+            ),
+            cand(
+                "leroy-bernstein-n-free",
+                Family::NearDissociation { primary: false },
+                900.0,
+                0.01,
+            ),
+        ];
+        c[1].veto = Some("n out of range".into());
+        let a = assess(&c, None, 0.9, 6.0, 2, None);
+        assert!(a.defensible[0].0 && !a.defensible[1].0);
+        assert_eq!(a.defensible[1].1, "n out of range");
     }
 
     /// Rule check (common practice, domain.md §3.3 trade facts): with levels reaching 99 % of the

@@ -401,6 +401,35 @@ pub struct Report {
     pub warnings: Vec<String>,
     /// Plot series.
     pub plot: PlotData,
+    /// Every input row that was not used, with its reason (from [`crate::pipeline`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub rows: Option<RowsSummary>,
+    /// The session that produced this report: input text, reading choices, settings. Present
+    /// when the analysis started from a session, so the document can be re-imported.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub session: Option<crate::session::Session>,
+}
+
+/// What happened to the rows of the input table.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RowsSummary {
+    /// Data rows in the input.
+    pub total: usize,
+    /// Rows the analysis used.
+    pub used: usize,
+    /// Rows not used, each with its row number (input line) and reason.
+    pub excluded: Vec<ExcludedRow>,
+}
+
+/// One row that was not used.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ExcludedRow {
+    /// Row number: line of the input.
+    pub row: usize,
+    /// `"input"` when the row could not be used as read, `"user"` when the user excluded it.
+    pub by: String,
+    /// Why.
+    pub reason: String,
 }
 
 impl Report {

@@ -126,6 +126,41 @@ impl Session {
         })
     }
 
+    /// Opens what a user hands over as one file: a session document, an exported analysis
+    /// report that embeds its session, or a plain table (which starts a new session with the
+    /// default reading and settings).
+    pub fn open(name: Option<String>, text: &str) -> Result<Session> {
+        let head = text.trim_start_matches('\u{feff}').trim_start();
+        if head.starts_with('{') {
+            let value: serde_json::Value =
+                serde_json::from_str(head).map_err(|e| Error::Document {
+                    message: format!(
+                        "looks like JSON but is not valid (line {}, column {}): {e}",
+                        e.line(),
+                        e.column()
+                    ),
+                })?;
+            if value.get("schema").is_some() {
+                return Session::from_json(head);
+            }
+            if let Some(session) = value.get("session").filter(|s| !s.is_null()) {
+                return Session::from_json(&session.to_string());
+            }
+            return Err(Error::Document {
+                message: format!(
+                    "a JSON file that is neither a {SESSION_SCHEMA} document nor an analysis \
+                     report with its session"
+                ),
+            });
+        }
+        Ok(Session::new(
+            text,
+            name,
+            IntakeOptions::default(),
+            AnalysisSettings::default(),
+        ))
+    }
+
     /// Reads a document, checking its schema name and version first.
     pub fn from_json(text: &str) -> Result<Session> {
         let value: serde_json::Value = serde_json::from_str(text).map_err(|e| Error::Document {
