@@ -661,7 +661,7 @@ mod tests {
         // Residual of x⁴ after a cubic least-squares fit: orthogonal to 1, x, x², x³.
         let design = DMatrix::from_fn(20, 4, |i, j| x[i].powi(j as i32));
         let x4: Vec<f64> = x.iter().map(|x| x.powi(4)).collect();
-        let cubic = lsq::fit(&design, &x4, lsq::Weights::Unit).unwrap();
+        let cubic = lsq::fit(&design, &x4, Weights::Unit).unwrap();
         let peak = cubic.residuals.iter().fold(0.0_f64, |m, r| m.max(r.abs()));
         let y: Vec<f64> = x
             .iter()
