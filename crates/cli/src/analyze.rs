@@ -53,6 +53,12 @@ pub struct AnalyzeArgs {
     /// Number of top levels used by the near-dissociation fit.
     #[arg(long, value_name = "N")]
     pub lb_top: Option<u32>,
+    /// Also write every figure as SVG into this folder (created if missing).
+    #[arg(long, value_name = "DIR")]
+    pub figures: Option<PathBuf>,
+    /// Energy unit of the figures (cm-1, eV, kJ/mol, …).
+    #[arg(long, value_name = "U", default_value = "cm-1")]
+    pub figure_unit: String,
 }
 
 fn fail(message: impl std::fmt::Display) -> ExitCode {
@@ -100,6 +106,11 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
         Ok(r) => r,
         Err(e) => return fail(format!("{}: {e}", args.file.display())),
     };
+    if let Some(dir) = &args.figures
+        && let Err(message) = write_figures(&report, dir, &args.figure_unit)
+    {
+        return fail(message);
+    }
     match args.format {
         Format::Text => print!("{}", rungs_core::render_text(&report)),
         Format::Json => match report.to_json() {
@@ -111,4 +122,25 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
         },
     }
     ExitCode::SUCCESS
+}
+
+/// Writes every figure of `report` as `DIR/<id>.svg`.
+fn write_figures(
+    report: &rungs_core::Report,
+    dir: &std::path::Path,
+    unit: &str,
+) -> Result<(), String> {
+    use rungs_plot::figures::{EnergyScale, FIGURES, figure};
+    let unit = rungs_core::units::Unit::parse(unit).map_err(|e| e.to_string())?;
+    let scale = EnergyScale::of(unit)
+        .ok_or_else(|| format!("--figure-unit: {} is not an energy unit", unit.token()))?;
+    std::fs::create_dir_all(dir).map_err(|e| format!("{}: {e}", dir.display()))?;
+    for (id, _) in FIGURES {
+        if let Some(chart) = figure(report, id, scale) {
+            let svg = rungs_plot::to_svg(&chart, 900, 560).map_err(|e| e.to_string())?;
+            let path = dir.join(format!("{id}.svg"));
+            std::fs::write(&path, svg).map_err(|e| format!("{}: {e}", path.display()))?;
+        }
+    }
+    Ok(())
 }
