@@ -4,7 +4,7 @@
 
 import init, {
   version, codata_year, examples, energy_units, input_units, column_roles,
-  format_energy, format_number, Figures,
+  format_energy, format_number, Chart,
 } from './pkg/rungs_wasm.js';
 import { connect } from './js/rpc.js';
 import { $, el, download } from './js/dom.js';
@@ -58,10 +58,11 @@ async function boot() {
   await rpc.boot(wasmSource);
 
   const results = new Results({ format_energy, format_number });
-  const figures = new FigurePanel();
-  const settings = new SettingsForm((s) => run(() => rpc.call('set_settings', s)).then(() => analyse()));
+  const figures = new FigurePanel(rpc, Chart);
+  const settings = new SettingsForm((s) => run(() => rpc.call('set_settings', JSON.stringify(s))).then(() => analyse()));
+  // A reading change { op, ...fields } travels as the JSON object { op: { ...fields } }.
   const data = new DataPanel(rpc, { roles: column_roles(), units: input_units() },
-    (change) => run(() => rpc.call('change_reading', change)).then(afterReading));
+    ({ op, ...fields }) => run(() => rpc.call('change_reading', JSON.stringify({ [op]: fields }))).then(afterReading));
 
   function renderResults() {
     if (state.report) results.render(state.report, state.unit, state.unitLabel);
@@ -102,7 +103,7 @@ async function boot() {
     state.reportJson = json;
     state.report = JSON.parse(json);
     renderResults();
-    figures.show(new Figures(json), state.unit);
+    await figures.refresh(state.unit);
     for (const id of ['export-json', 'export-csv', 'print-report']) $(id).disabled = false;
     const ms = performance.now() - t0;
     document.body.dataset.analysisMs = ms.toFixed(1);

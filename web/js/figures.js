@@ -1,11 +1,19 @@
-// The figure card: tabs of the figures a report offers, the canvas (drawn by rungs-plot through
-// wasm, at the screen's pixel density), pointer read-outs, and SVG/PNG downloads.
+// The figure card: tabs of the figures an analysis offers, the canvas (drawn by rungs-plot
+// through wasm at the screen's pixel density), pointer read-outs, and SVG/PNG downloads.
+// The worker builds each figure from its analysis; this thread only draws it.
 
 import { el, clear, download, $ } from './dom.js';
 
 export class FigurePanel {
-  constructor() {
-    this.figures = null; // wasm Figures handle
+  /**
+   * @param rpc    worker client (figure_list, figure)
+   * @param Chart  the wasm Chart class (draws one figure description)
+   */
+  constructor(rpc, Chart) {
+    this.rpc = rpc;
+    this.Chart = Chart;
+    this.chart = null;
+    this.list = [];
     this.current = 'spacings';
     this.unit = 'cm-1';
     const canvas = $('figure');
@@ -16,58 +24,67 @@ export class FigurePanel {
     window.addEventListener('resize', () => this.draw());
   }
 
-  show(figures, unit) {
-    this.figures?.free();
-    this.figures = figures;
+  /** A new analysis is ready in the worker: fetch its figure list and draw the current one. */
+  async refresh(unit) {
     this.unit = unit;
-    const list = figures.list();
-    if (!list.some(([id]) => id === this.current)) this.current = list[0]?.[0] ?? 'spacings';
-    const tabs = clear($('figure-tabs'));
-    for (const [id, title] of list) {
-      tabs.append(el('button', {
-        type: 'button', role: 'tab', 'aria-selected': id === this.current ? 'true' : 'false', 'data-figure': id, title,
-        onclick: () => { this.current = id; this.show(this.figures, this.unit); },
-      }, title.split(/ with | of |\(/)[0].trim()));
-    }
-    this.draw();
+    this.list = await this.rpc.call('figure_list');
+    if (!this.list.some(([id]) => id === this.current)) this.current = this.list[0]?.[0] ?? 'spacings';
+    this.renderTabs();
+    await this.load();
   }
 
-  setUnit(unit) {
+  renderTabs() {
+    const tabs = clear($('figure-tabs'));
+    for (const [id, title] of this.list) {
+      tabs.append(el('button', {
+        type: 'button', role: 'tab', 'aria-selected': id === this.current ? 'true' : 'false', 'data-figure': id, title,
+        onclick: () => this.select(id),
+      }, title.split(/ with | of |\(|:/)[0].trim()));
+    }
+  }
+
+  async select(id) {
+    this.current = id;
+    this.renderTabs();
+    await this.load();
+  }
+
+  async setUnit(unit) {
     this.unit = unit;
+    if (this.list.length) await this.load();
+  }
+
+  async load() {
+    const json = await this.rpc.call('figure', this.current, this.unit);
+    this.chart?.free();
+    this.chart = new this.Chart(json);
     this.draw();
   }
 
   draw() {
-    if (!this.figures) return;
+    if (!this.chart) return;
     const canvas = $('figure');
     const ratio = window.devicePixelRatio || 1;
     const width = canvas.parentElement.clientWidth;
-    const height = Math.round(Math.min(Math.max(width * 0.6, 320), 560));
+    const height = Math.round(Math.min(Math.max(width * 0.62, 320), 560));
     canvas.style.width = `${width}px`;
     canvas.style.height = `${height}px`;
     canvas.width = Math.round(width * ratio);
     canvas.height = Math.round(height * ratio);
-    canvas.setAttribute('aria-label', this.title());
-    this.figures.draw(this.current, canvas, ratio, this.unit);
-  }
-
-  title() {
-    return (this.figures?.list() ?? []).find(([id]) => id === this.current)?.[1] ?? 'Figure';
+    canvas.setAttribute('aria-label', this.chart.title());
+    this.chart.draw(canvas, ratio);
+    document.body.dataset.figure = this.current;
   }
 
   hover(event) {
-    if (!this.figures) return;
+    if (!this.chart) return;
     const rect = event.target.getBoundingClientRect();
-    const tag = this.figures.pick(this.current, event.clientX - rect.left, event.clientY - rect.top);
+    const tag = this.chart.pick(event.clientX - rect.left, event.clientY - rect.top);
     $('readout').textContent = tag ?? '';
   }
 
-  svgText(width = 900, height = 560) {
-    return this.figures.svg(this.current, width, height, this.unit);
-  }
-
   saveSvg() {
-    if (this.figures) download(`rungs-${this.current}.svg`, 'image/svg+xml', this.svgText());
+    if (this.chart) download(`rungs-${this.current}.svg`, 'image/svg+xml', this.chart.svg(900, 560));
   }
 
   savePng() {

@@ -27,8 +27,12 @@ pub enum SigmaScaling {
 }
 
 /// How the reduced mass of the molecule is given.
+///
+/// JSON: `{"kind": "reduced_mass", "mu_u": 14.5}` or `{"kind": "nuclides", "a": "1H", "b": "35Cl"}`.
+/// Read through a flat helper struct rather than serde's internally tagged enums, which buffer
+/// the whole object and cost a lot of code in the browser module.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(rename_all = "snake_case", tag = "kind")]
+#[serde(rename_all = "snake_case", tag = "kind", try_from = "MassSpecFields")]
 pub enum MassSpec {
     /// Reduced mass in u.
     ReducedMass {
@@ -42,6 +46,30 @@ pub enum MassSpec {
         /// Second atom.
         b: String,
     },
+}
+
+/// The flat form [`MassSpec`] is read through.
+#[derive(Deserialize)]
+struct MassSpecFields {
+    kind: String,
+    mu_u: Option<f64>,
+    a: Option<String>,
+    b: Option<String>,
+}
+
+impl TryFrom<MassSpecFields> for MassSpec {
+    type Error = String;
+    fn try_from(f: MassSpecFields) -> Result<Self, String> {
+        match (f.kind.as_str(), f.mu_u, f.a, f.b) {
+            ("reduced_mass", Some(mu_u), None, None) => Ok(MassSpec::ReducedMass { mu_u }),
+            ("nuclides", None, Some(a), Some(b)) => Ok(MassSpec::Nuclides { a, b }),
+            ("reduced_mass", ..) => Err("mass of kind 'reduced_mass' needs exactly 'mu_u'".into()),
+            ("nuclides", ..) => Err("mass of kind 'nuclides' needs exactly 'a' and 'b'".into()),
+            (other, ..) => Err(format!(
+                "mass kind '{other}' is neither 'reduced_mass' nor 'nuclides'"
+            )),
+        }
+    }
 }
 
 /// Every user choice that shapes an analysis.

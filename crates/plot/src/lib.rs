@@ -98,7 +98,7 @@ pub struct Point {
 
 /// What a layer draws.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(rename_all = "snake_case", tag = "kind")]
+#[serde(rename_all = "snake_case")]
 pub enum Mark {
     /// Markers with optional error bars.
     Points {

@@ -18,7 +18,7 @@ use serde::{Deserialize, Serialize};
 use wasm_bindgen::prelude::*;
 
 mod figures;
-pub use figures::Figures;
+pub use figures::Chart;
 
 /// Install the panic hook once, so a bug shows a readable message in the console.
 #[wasm_bindgen(start)]
@@ -172,7 +172,7 @@ struct RowDto<'a> {
 
 /// A change to how the table is read, sent by the page.
 #[derive(Deserialize)]
-#[serde(rename_all = "snake_case", tag = "op")]
+#[serde(rename_all = "snake_case")]
 enum ReadingChange {
     Kind {
         kind: Option<String>,
@@ -208,6 +208,7 @@ enum ReadingChange {
 pub struct Workbench {
     session: Option<Session>,
     data: Option<DataSet>,
+    report: Option<rungs_core::Report>,
 }
 
 impl Default for Workbench {
@@ -224,6 +225,7 @@ impl Workbench {
         Workbench {
             session: None,
             data: None,
+            report: None,
         }
     }
 
@@ -345,8 +347,8 @@ impl Workbench {
 
     /// Apply one change to how the table is read (kind, unit, column role/unit, exclusions…);
     /// returns the new reading summary.
-    pub fn change_reading(&mut self, change: JsValue) -> Result<JsValue, JsError> {
-        let change: ReadingChange = serde_wasm_bindgen::from_value(change).map_err(js_err)?;
+    pub fn change_reading(&mut self, change_json: &str) -> Result<JsValue, JsError> {
+        let change: ReadingChange = serde_json::from_str(change_json).map_err(js_err)?;
         let mut session = self.current()?.0.clone();
         let o = &mut session.intake;
         match change {
@@ -401,13 +403,47 @@ impl Workbench {
     /// Run the analysis of the current session. `progress(done, total)` is called as the Monte
     /// Carlo draws advance. Returns the analysis document as JSON (the same document the
     /// command line prints with `--format json`).
-    pub fn analyze(&self, progress: &js_sys::Function) -> Result<String, JsError> {
+    pub fn analyze(&mut self, progress: &js_sys::Function) -> Result<String, JsError> {
         let (session, _) = self.current()?;
         let mut hook = |done: usize, total: usize| {
             let _ = progress.call2(&JsValue::NULL, &JsValue::from(done), &JsValue::from(total));
         };
         let report = rungs_core::analyze_session(session, &mut hook).map_err(js_err)?;
-        report.to_json().map_err(js_err)
+        let json = report.to_json().map_err(js_err)?;
+        self.report = Some(report);
+        Ok(json)
+    }
+
+    /// The figures the last analysis offers: `[[id, title]]`.
+    pub fn figure_list(&self) -> Result<JsValue, JsError> {
+        let report = self
+            .report
+            .as_ref()
+            .ok_or_else(|| js_err("no analysis yet"))?;
+        let list: Vec<(&str, &str)> = rungs_plot::figures::FIGURES
+            .iter()
+            .copied()
+            .filter(|(id, _)| {
+                rungs_plot::figures::figure(report, id, rungs_plot::figures::EnergyScale::cm1())
+                    .is_some()
+            })
+            .collect();
+        to_js(&list)
+    }
+
+    /// Figure `id` of the last analysis, energies in `unit`, as a chart description (JSON) for
+    /// the main thread's [`Chart`].
+    pub fn figure(&self, id: &str, unit: &str) -> Result<String, JsError> {
+        let report = self
+            .report
+            .as_ref()
+            .ok_or_else(|| js_err("no analysis yet"))?;
+        let u = Unit::parse(unit).map_err(js_err)?;
+        let scale = rungs_plot::figures::EnergyScale::of(u)
+            .ok_or_else(|| js_err(format!("'{unit}' is not an energy unit")))?;
+        let chart = rungs_plot::figures::figure(report, id, scale)
+            .ok_or_else(|| js_err(format!("no figure '{id}' for this analysis")))?;
+        serde_json::to_string(&chart).map_err(js_err)
     }
 
     /// The current analysis settings.
@@ -426,6 +462,7 @@ impl Workbench {
 
     fn install(&mut self, session: Session) -> Result<JsValue, JsError> {
         let data = session.data().map_err(js_err)?;
+        self.report = None;
         self.session = Some(session);
         self.data = Some(data);
         self.reading()

@@ -494,11 +494,12 @@ impl Redraw for LbEstimator {
             }
             self.e[r] = acc;
         }
-        // Statistical tolerances: a gradient cosine of 1e-6 leaves parameter errors ~1e-6 σ.
+        // Statistical tolerances: a gradient cosine of 1e-6 leaves parameter errors ~1e-6 σ, and
+        // a relative step of 1e-8 in D or v_D is far below any σ a draw can resolve.
         let opts = LmOptions {
             max_iter: 100,
-            xtol: 1e-10,
-            ftol: 1e-10,
+            xtol: 1e-8,
+            ftol: 1e-9,
             gtol: 1e-6,
             lambda0: 1e-6,
             final_jacobian: false,
