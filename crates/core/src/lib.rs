@@ -15,6 +15,7 @@ pub mod constants;
 pub mod data;
 pub mod error;
 pub mod lsq;
+pub mod potential;
 pub mod settings;
 
 pub use error::{Error, Result};

@@ -1,0 +1,2 @@
+//! Benchmark placeholder (filled in below).
+fn main() {}

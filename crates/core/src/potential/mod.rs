@@ -1,0 +1,69 @@
+//! Potential-energy curves of a diatomic molecule and the radial Schrödinger equation on them.
+//!
+//! This module closes the loop from fitted constants back to levels:
+//!
+//! - [`analytic`]: test forms with known answers — [`Harmonic`], [`Morse`], [`LennardJones`];
+//! - [`rkr`]: first-order RKR turning points from G(v) and B(v) (Klein f and g integrals), and
+//!   the [`RkrPotential`] built on them, with both walls extended;
+//! - [`pointwise`]: a potential given point by point (e.g. from a quantum-chemistry
+//!   calculation), interpolated by a cubic spline and extended beyond its ends;
+//! - [`solver`]: all bound levels of any [`Potential`] for a given J (energies, B_v, turning
+//!   points, wavefunctions), by Numerov shooting with Cooley correction, node counting and
+//!   Richardson extrapolation in the step, with an error estimate per level;
+//! - [`compare`]: observed − calculated levels and B_v, χ² and a plain-language verdict;
+//! - [`fcf`]: Franck–Condon factors between the levels of two potentials.
+//!
+//! Units throughout: r in Å, V and energies in cm⁻¹, μ in u. The kinetic operator is
+//! −(C_u/μ) d²/dr² with C_u = [`C_U_CM1_U_A2`](crate::constants::C_U_CM1_U_A2).
+
+pub mod analytic;
+pub mod compare;
+pub mod fcf;
+pub mod pointwise;
+mod quadrature;
+pub mod rkr;
+pub mod solver;
+pub mod spline;
+pub mod walls;
+
+pub use analytic::{Harmonic, LennardJones, Morse};
+pub use compare::{Alignment, LoopCheck, LoopRow, Verdict, compare_levels};
+pub use fcf::{FcfSettings, FcfTable, franck_condon_factors};
+pub use pointwise::{EnergyUnit, LengthUnit, PointwisePotential, parse_two_column};
+pub use rkr::{RkrCurve, RkrInput, RkrPoint, RkrPotential, RotationInput, rkr_turning_points};
+pub use solver::{BoundLevel, GridInfo, LevelSet, SolverSettings, Wavefunction, solve_levels};
+pub use walls::{OuterWall, WallFit};
+
+use serde::{Deserialize, Serialize};
+
+/// Position and depth of the bottom of a potential well.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct WellMinimum {
+    /// Equilibrium distance r_e, Å.
+    pub r_angstrom: f64,
+    /// Potential energy at the minimum, cm⁻¹ (on the potential's own energy scale).
+    pub energy_cm1: f64,
+}
+
+/// A radial potential-energy curve V(r) of a diatomic molecule.
+///
+/// V is in cm⁻¹ on the curve's own energy scale (Morse: 0 at the minimum; Lennard-Jones: 0 at
+/// dissociation; a pointwise curve: whatever the user gave). Everything reported by the solver
+/// is measured from [`Potential::minimum`].
+pub trait Potential {
+    /// V(r) in cm⁻¹ at r in Å (r > 0).
+    fn energy_cm1(&self, r_angstrom: f64) -> f64;
+
+    /// dV/dr in cm⁻¹/Å. The default is a central difference; analytic forms override it.
+    fn derivative_cm1_per_angstrom(&self, r_angstrom: f64) -> f64 {
+        let h = 1e-5 * r_angstrom.abs().max(1e-3);
+        (self.energy_cm1(r_angstrom + h) - self.energy_cm1(r_angstrom - h)) / (2.0 * h)
+    }
+
+    /// The bottom of the well (the global minimum for r > 0).
+    fn minimum(&self) -> WellMinimum;
+
+    /// V(r → ∞) in cm⁻¹ when the curve dissociates to a finite limit; `None` when it rises
+    /// without bound (harmonic) or its long-range behaviour is not known.
+    fn asymptote_cm1(&self) -> Option<f64>;
+}
