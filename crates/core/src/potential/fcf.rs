@@ -95,7 +95,6 @@ pub fn franck_condon_factors(
         .iter()
         .map(|row| row.iter().map(|o| o * o).collect())
         .collect();
-    let _ = (su.v_min, sl.v_min);
     Ok(FcfTable {
         upper_energies_cm1: su.energies.clone(),
         lower_energies_cm1: sl.energies.clone(),

@@ -5,34 +5,45 @@
 //! (domain notes §1.10), r in Å, energies in cm⁻¹, μ in u.
 //!
 //! # Method
-//! Numerov discretisation on a uniform grid, written for F_i = (1 − T_i) ψ_i with
-//! T_i = h² μ (V_i − E)/(12 C_u): F_{i+1} − U_i F_i + F_{i−1} = 0, U_i = (2 + 10 T_i)/(1 − T_i).
-//! This is a symmetric tridiagonal matrix M(E) = tridiag(−1, U_i, −1) that decreases
-//! monotonically with E, so the number of its negative pivots equals the number of Numerov
-//! eigenvalues below E (a Sturm count, here computed by a twisted factorisation: ratios
-//! R_i = F_{i+1}/F_i swept outward to the match point m, ratios F_{i−1}/F_i swept inward, and the
-//! pivot γ_m at m). The ratio form never overflows in classically forbidden regions.
+//! Numerov discretisation on a grid uniform in a coordinate x. For curves with a dissociation
+//! limit, when all levels up to it are wanted, x counts local wavelengths at the limit
+//! (dr/dx ∝ 1/k(r), blended smoothly into a uniform step inside the well), so the step grows
+//! with r through the long-range tail: near-threshold levels get a long box at little cost.
+//! Otherwise the grid is uniform in r. With ψ(r) = √(r′(x)) φ(x) the equation keeps Numerov
+//! form, φ″ = [r′² (μ/C_u)(V_J − E) − ½ {r, x}] φ ({r, x} the Schwarzian derivative of the map:
+//! the Liouville transformation).
+//!
+//! With T_i = h² Q̃_i/12 and F_i = (1 − T_i) φ_i the scheme reads F_{i+1} − U_i F_i + F_{i−1} = 0,
+//! U_i = (2 + 10 T_i)/(1 − T_i): a symmetric tridiagonal matrix M(E) = tridiag(−1, U_i, −1) that
+//! decreases monotonically with E, so the number of its negative pivots is the number of
+//! Numerov eigenvalues below E (a Sturm count). One sweep at a trial E runs the three-term
+//! recursion outward to the match point m (the outer turning point) and inward to m, rescaling
+//! against overflow; sign changes give the pivots of this twisted factorisation, the pivot γ_m
+//! at m gives the mismatch, and the same pass accumulates Σ w φ² and ⟨1/r²⟩.
 //!
 //! For level v the energy is bracketed by the count and refined by the Cooley–Newton correction
-//! ΔE = (C_u/μ) γ_m / (h² Σ ψ_i²) with F_m = 1 (the Newton step for the smallest eigenvalue of the
-//! symmetric pencil), falling back to bisection whenever a step leaves the bracket or the trial
-//! function has the wrong number of nodes. Each level is converged to 1e-10 of the well depth.
+//! ΔE = γ_m / (12 Σ w_i φ_i²) with φ_m = 1, w_i = ∂T_i/∂(−E) (the Newton step for the zero
+//! eigenvalue of the symmetric pencil), falling back to bisection whenever a step leaves the
+//! bracket or the trial function has the wrong number of nodes. Guesses come from extrapolating
+//! the levels below, so a level typically costs two or three sweeps.
 //!
 //! # Accuracy control
 //! Numerov eigenvalues carry an error c·h⁴ + O(h⁶). Every level is solved on a grid and on the
 //! grid with half the step; the reported energy is the Richardson value (16 E_{h/2} − E_h)/15 and
 //! the reported `error_estimate_cm1` is |E_{h/2} − E_h|/15, the estimated error of E_{h/2} (a
 //! conservative bound for the extrapolated value, whose error is O(h⁶)). Levels whose estimate
-//! exceeds `tolerance_cm1` are refined again (step halved), up to `max_refinements` times. The
-//! tests check the estimate against closed-form Morse and harmonic levels.
+//! exceeds `tolerance_cm1` are refined again (step halved), up to `max_refinements` times.
+//! B_v is extrapolated the same way. The tests check the levels against closed forms (harmonic,
+//! Morse) and against an independent dense sinc-DVR (Lennard-Jones), and check that the actual
+//! error stays within the estimate.
 //!
-//! The initial step resolves the shortest local wavelength 2π/√(μ(E_max − V_min)/C_u) by
+//! The first step resolves the shortest local wavelength 2π/√(μ(E_max − V_min)/C_u) by
 //! `points_per_wavelength` points. The box: r_a lies inside the inner wall where the WKB decay
 //! exponent ∫κ dr from the inner turning point at E_max reaches `tail_decay`; r_b likewise beyond
-//! the outer turning point of an energy 10⁻⁴ of the well depth below the limit (or of E_max when
-//! one is given). Each level is integrated only as far out as its own decay requires. Levels
-//! whose wavefunction has not decayed by `tail_decay`/2 at r_b are flagged `boundary_limited`
-//! (their energies are raised by the box; widen `r_max_angstrom`).
+//! the outer turning point of an energy 10⁻⁶ (mapped grid; 10⁻⁴ uniform) of the well depth below
+//! the limit, or of E_max when one is given. Each level is integrated only as far out as its own
+//! decay requires. Levels whose wavefunction has not decayed by `tail_decay`/2 at r_b are
+//! flagged `boundary_limited` (their energies are raised by the box; widen `r_max_angstrom`).
 //!
 //! Everything is single-threaded and allocation-light, so it runs the same in WebAssembly.
 
@@ -67,6 +78,9 @@ pub struct SolverSettings {
     pub tail_decay: f64,
     /// Points per wavefunction returned for plotting (0: none).
     pub wavefunction_points: usize,
+    /// Use a grid whose step follows the local wavelength (for curves with a dissociation limit
+    /// when all levels up to it are wanted); otherwise, or when false, the grid is uniform.
+    pub mapped_grid: bool,
 }
 
 impl Default for SolverSettings {
@@ -82,6 +96,7 @@ impl Default for SolverSettings {
             r_max_angstrom: None,
             tail_decay: 36.0,
             wavefunction_points: 300,
+            mapped_grid: true,
         }
     }
 }
@@ -126,9 +141,13 @@ pub struct GridInfo {
     pub r_min_angstrom: f64,
     /// Outer end, Å.
     pub r_max_angstrom: f64,
-    /// Step of the first grid, Å.
+    /// Whether the step follows the local wavelength (mapped) or is uniform.
+    pub mapped: bool,
+    /// Points of the first (coarsest) grid.
+    pub points_coarse: usize,
+    /// Step of the first grid at the potential minimum, Å.
     pub step_coarse_angstrom: f64,
-    /// Step of the finest grid used for any level, Å.
+    /// Step of the finest grid used for any level at the potential minimum, Å.
     pub step_finest_angstrom: f64,
     /// Number of step halvings used (1 = the basic Richardson pair).
     pub halvings: u32,
@@ -164,7 +183,6 @@ pub(crate) struct Problem<'a> {
     kin: f64,
     /// (C_u/μ) J(J+1).
     cent: f64,
-    mu: f64,
 }
 
 impl<'a> Problem<'a> {
@@ -181,82 +199,221 @@ impl<'a> Problem<'a> {
             pot,
             kin,
             cent: kin * jj,
-            mu,
         })
+    }
+
+    fn v(&self, r: f64) -> f64 {
+        self.pot.energy_cm1(r)
     }
 
     fn vj(&self, r: f64) -> f64 {
         self.pot.energy_cm1(r) + self.cent / (r * r)
     }
 
-    /// Local wavenumber κ or k for |V − E|, 1/Å.
+    /// Local wavenumber √(|ΔE|/(C_u/μ)), 1/Å.
     fn kappa(&self, diff: f64) -> f64 {
         (diff.abs() / self.kin).sqrt()
     }
 }
 
-/// A uniform grid with V_J tabulated; indices 0 and n−1 carry the Dirichlet conditions.
+/// C∞ step: 0 for t ≤ 0, 1 for t ≥ 1.
+fn smooth_step(t: f64) -> f64 {
+    if t <= 0.0 {
+        0.0
+    } else if t >= 1.0 {
+        1.0
+    } else {
+        let a = (-1.0 / t).exp();
+        let b = (-1.0 / (1.0 - t)).exp();
+        a / (a + b)
+    }
+}
+
+/// The coordinate map r(x): x counts local wavelengths, dx/dr = ρ(r) = k(r)/(2π) with
+/// k(r)² = (μ/C_u) K(r). Uniform: K = the well depth. Mapped: K = depth + δ for r ≤ r_e, then a
+/// C∞ blend (r_e … r₁) into E_max + δ − V(r), so the step follows the local wavelength at the
+/// ceiling out into the long-range tail (δ, a small floor, keeps the far steps finite).
+#[derive(Clone, Copy)]
+struct Map {
+    mapped: bool,
+    k0: f64,
+    e_top: f64,
+    re: f64,
+    r1: f64,
+    /// √(μ/C_u)/(2π).
+    coef: f64,
+}
+
+impl Map {
+    fn k_energy(&self, problem: &Problem<'_>, r: f64) -> f64 {
+        if !self.mapped || r <= self.re {
+            return self.k0;
+        }
+        let s = smooth_step((r - self.re) / (self.r1 - self.re));
+        self.k0 * (1.0 - s) + s * (self.e_top - problem.v(r))
+    }
+
+    fn rho(&self, problem: &Problem<'_>, r: f64) -> f64 {
+        self.coef * self.k_energy(problem, r).max(1e-300).sqrt()
+    }
+
+    /// Schwarzian {r, x} = (1.5 ρ′² − ρ ρ″)/ρ⁴ of the map at r (0 where ρ is constant).
+    fn schwarzian(&self, problem: &Problem<'_>, r: f64) -> f64 {
+        if !self.mapped || r <= self.re {
+            return 0.0;
+        }
+        // Five-point central differences (truncation O(ε⁴)).
+        let eps = 2e-3 * (self.r1 - self.re).max(r - self.re);
+        let rho = |k: f64| self.rho(problem, r + k * eps);
+        let (m2, m1, c, p1, p2) = (rho(-2.0), rho(-1.0), rho(0.0), rho(1.0), rho(2.0));
+        let d1 = (m2 - 8.0 * m1 + 8.0 * p1 - p2) / (12.0 * eps);
+        let d2 = (-m2 + 16.0 * m1 - 30.0 * c + 16.0 * p1 - p2) / (12.0 * eps * eps);
+        (1.5 * d1 * d1 - c * d2) / (c * c * c * c)
+    }
+
+    /// r after a step dx from r (dr/dx = 1/ρ), classical RK4 with `n` substeps.
+    fn advance(&self, problem: &Problem<'_>, r: f64, dx: f64, n: usize) -> f64 {
+        if !self.mapped {
+            return r + dx / self.coef / self.k0.sqrt();
+        }
+        let hs = dx / n as f64;
+        let f = |r: f64| 1.0 / self.rho(problem, r);
+        let mut r = r;
+        for _ in 0..n {
+            let k1 = f(r);
+            let k2 = f(r + 0.5 * hs * k1);
+            let k3 = f(r + 0.5 * hs * k2);
+            let k4 = f(r + hs * k3);
+            r += hs * (k1 + 2.0 * k2 + 2.0 * k3 + k4) / 6.0;
+        }
+        r
+    }
+}
+
+/// A grid uniform in x; indices 0 and n−1 carry the Dirichlet conditions.
+///
+/// With ψ(r) = √(r′(x)) φ(x) the radial equation becomes φ″ = Q̃ φ with
+/// Q̃ = r′² (μ/C_u)(V_J − E) − ½ {r, x} (Liouville transformation), so Numerov's
+/// T_i = h² Q̃_i/12 = a_i − E w_i.
 pub(crate) struct Grid {
-    r0: f64,
     h: f64,
+    r: Vec<f64>,
     vj: Vec<f64>,
-    /// h² μ/(12 C_u).
-    q: f64,
-    /// Index of the lowest V_J.
+    /// r′(x_i) = 1/ρ(r_i).
+    jac: Vec<f64>,
+    /// Schwarzian of the map at r_i.
+    schw: Vec<f64>,
+    w: Vec<f64>,
+    /// w_i / r_i² (for ⟨1/r²⟩).
+    wr2: Vec<f64>,
+    a: Vec<f64>,
     imin: usize,
 }
 
 impl Grid {
-    fn new(problem: &Problem<'_>, r0: f64, r1: f64, intervals: usize) -> Result<Self> {
-        let h = (r1 - r0) / intervals as f64;
-        let vj: Vec<f64> = (0..=intervals)
-            .map(|i| problem.vj(r0 + i as f64 * h))
-            .collect();
-        Self::from_values(problem, r0, h, vj)
+    fn point_values(problem: &Problem<'_>, map: &Map, r: f64) -> (f64, f64, f64) {
+        (
+            problem.vj(r),
+            1.0 / map.rho(problem, r),
+            map.schwarzian(problem, r),
+        )
     }
 
-    fn from_values(problem: &Problem<'_>, r0: f64, h: f64, vj: Vec<f64>) -> Result<Self> {
+    /// Step h (in wavelengths) from r_a until r ≥ r_b.
+    fn new(problem: &Problem<'_>, map: &Map, r_a: f64, r_b: f64, h: f64) -> Result<Self> {
+        let mut r = vec![r_a];
+        let mut x = r_a;
+        while x < r_b {
+            x = map.advance(problem, x, h, 2);
+            if !x.is_finite() || r.len() > 4_000_000 {
+                return Err(Error::numerical(
+                    "level solver",
+                    "the grid would need more than 4 million points; narrow r_min … r_max",
+                ));
+            }
+            r.push(x);
+        }
+        if r.len() < 8 {
+            // Too short to be useful: subdivide.
+            return Self::new(problem, map, r_a, r_b, h / 4.0);
+        }
+        let mut vj = Vec::with_capacity(r.len());
+        let mut jac = Vec::with_capacity(r.len());
+        let mut schw = Vec::with_capacity(r.len());
+        for &ri in &r {
+            let (v, j, s) = Self::point_values(problem, map, ri);
+            vj.push(v);
+            jac.push(j);
+            schw.push(s);
+        }
+        Self::finish(problem, h, r, vj, jac, schw)
+    }
+
+    fn finish(
+        problem: &Problem<'_>,
+        h: f64,
+        r: Vec<f64>,
+        vj: Vec<f64>,
+        jac: Vec<f64>,
+        schw: Vec<f64>,
+    ) -> Result<Self> {
         if let Some(i) = vj.iter().position(|v| !v.is_finite()) {
             return Err(Error::numerical(
                 "level solver",
-                format!(
-                    "the potential is not finite at r = {:.6} Å",
-                    r0 + i as f64 * h
-                ),
+                format!("the potential is not finite at r = {:.6} Å", r[i]),
             ));
         }
+        let c = h * h / 12.0;
+        let w: Vec<f64> = jac.iter().map(|j| c * j * j / problem.kin).collect();
+        let a: Vec<f64> = (0..r.len())
+            .map(|i| w[i] * vj[i] - 0.5 * c * schw[i])
+            .collect();
+        let wr2: Vec<f64> = (0..r.len()).map(|i| w[i] / (r[i] * r[i])).collect();
         let imin = (1..vj.len() - 1)
-            .min_by(|&a, &b| vj[a].total_cmp(&vj[b]))
+            .min_by(|&p, &q| vj[p].total_cmp(&vj[q]))
             .unwrap_or(1);
         Ok(Self {
-            r0,
             h,
-            q: h * h * problem.mu / (12.0 * C_U_CM1_U_A2),
+            r,
             vj,
+            jac,
+            schw,
+            w,
+            wr2,
+            a,
             imin,
         })
     }
 
-    /// The same interval with half the step (even points reused).
-    fn refine(&self, problem: &Problem<'_>) -> Result<Self> {
-        let n = self.vj.len();
-        let h = self.h / 2.0;
-        let mut vj = Vec::with_capacity(2 * n - 1);
+    /// The same x range with half the step (even points reused exactly).
+    fn refine(&self, problem: &Problem<'_>, map: &Map) -> Result<Self> {
+        let n = self.len();
+        let m = 2 * n - 1;
+        let (mut r, mut vj, mut jac, mut schw) = (
+            Vec::with_capacity(m),
+            Vec::with_capacity(m),
+            Vec::with_capacity(m),
+            Vec::with_capacity(m),
+        );
         for i in 0..n {
+            r.push(self.r[i]);
             vj.push(self.vj[i]);
+            jac.push(self.jac[i]);
+            schw.push(self.schw[i]);
             if i + 1 < n {
-                vj.push(problem.vj(self.r0 + (2 * i + 1) as f64 * h));
+                let x = map.advance(problem, self.r[i], 0.5 * self.h, 1);
+                let (v, j, s) = Self::point_values(problem, map, x);
+                r.push(x);
+                vj.push(v);
+                jac.push(j);
+                schw.push(s);
             }
         }
-        Self::from_values(problem, self.r0, h, vj)
+        Self::finish(problem, 0.5 * self.h, r, vj, jac, schw)
     }
 
     fn len(&self) -> usize {
         self.vj.len()
-    }
-
-    fn r(&self, i: usize) -> f64 {
-        self.r0 + i as f64 * self.h
     }
 
     /// First index beyond the minimum where V_J ≥ e (the outer turning point), or the last.
@@ -278,135 +435,180 @@ impl Grid {
         i
     }
 
-    /// WKB decay exponent from the outer turning point to index `end`.
-    fn outer_decay(&self, e: f64, end: usize) -> f64 {
+    /// WKB decay increment κ Δr at point i for energy e.
+    fn decay_step(&self, i: usize, e: f64) -> f64 {
+        (12.0 * self.w[i] * (self.vj[i] - e).max(0.0)).sqrt()
+    }
+
+    /// Whether the WKB decay exponent from the outer turning point to index `end` reaches
+    /// `target`.
+    fn decays_by(&self, e: f64, end: usize, target: f64) -> bool {
         let t = self.outer_turning_index(e);
-        let c = (12.0 * self.q).sqrt();
-        (t..end.min(self.len() - 1))
-            .map(|i| c * (self.vj[i] - e).max(0.0).sqrt())
-            .sum()
+        let mut s = 0.0;
+        for i in t..end.min(self.len() - 1) {
+            s += self.decay_step(i, e);
+            if s >= target {
+                return true;
+            }
+        }
+        false
     }
 
     /// Index where the decay exponent beyond the outer turning point reaches `decay`.
     fn tail_end(&self, e: f64, decay: f64) -> usize {
         let n = self.len();
         let mut i = self.outer_turning_index(e);
-        let c = (12.0 * self.q).sqrt();
         let mut s = 0.0;
         while i < n - 1 && s < decay {
-            s += c * (self.vj[i] - e).max(0.0).sqrt();
+            s += self.decay_step(i, e);
             i += 1;
         }
         (i + 2).min(n - 1)
     }
 }
 
-/// Scratch buffers reused across sweeps.
-#[derive(Default)]
-pub(crate) struct Workspace {
-    out: Vec<f64>,
-    inw: Vec<f64>,
-    psi: Vec<f64>,
-}
-
+/// Outcome of one sweep at a trial energy.
 struct Sweep {
+    /// Numerov eigenvalues below e (Sturm count).
     count: usize,
+    /// Nodes of the matched trial function.
     nodes: usize,
+    /// Pivot at the match point (mismatch of the two solutions).
     gamma: f64,
-    m: usize,
+    /// Σ w_i φ_i² with φ_m = 1 (for the Cooley step).
+    norm: f64,
+    /// ⟨1/r²⟩ of the trial function.
+    inv_r2: f64,
 }
 
-#[inline]
-fn u_of(q: f64, v: f64, e: f64) -> f64 {
-    let t = (q * (v - e)).min(0.9);
-    (2.0 + 10.0 * t) / (1.0 - t)
+const RESCALE: f64 = 1e100;
+
+/// One pass at energy e over indices 0 … end (φ_0 = φ_end = 0): the outward solution F up to the
+/// match point m, the inward one G down to m, by the three-term recursion
+/// F_{i+1} = U_i F_i − F_{i−1} (rescaled against overflow). Sign changes of consecutive values
+/// are the negative pivots of the twisted factorisation.
+fn sweep(grid: &Grid, e: f64, end: usize) -> Sweep {
+    sweep_impl::<false>(grid, e, end, &mut Vec::new())
 }
 
-#[inline]
-fn guard(x: f64) -> f64 {
-    if x == 0.0 { 1e-300 } else { x }
+/// [`sweep`] that also writes φ_i (φ_m = 1) to `store[0..=end]`.
+fn sweep_store(grid: &Grid, e: f64, end: usize, store: &mut Vec<f64>) -> Sweep {
+    sweep_impl::<true>(grid, e, end, store)
 }
 
-/// Twisted-factorisation sweep at energy e over indices 1 … end−1 (ψ_end = 0).
-fn sweep(grid: &Grid, e: f64, end: usize, ws: &mut Workspace) -> Sweep {
-    let n = grid.len();
-    if ws.out.len() < n {
-        ws.out.resize(n, 0.0);
-        ws.inw.resize(n, 0.0);
-        ws.psi.resize(n, 0.0);
-    }
+fn sweep_impl<const STORE: bool>(grid: &Grid, e: f64, end: usize, st: &mut Vec<f64>) -> Sweep {
     let m = grid
         .outer_turning_index(e)
         .saturating_sub(1)
         .clamp(2, end - 2);
-    let q = grid.q;
-    let vj = &grid.vj;
+    let (a, w, wr2) = (&grid.a, &grid.w, &grid.wr2);
+    let d_of = |i: usize| 1.0 / (1.0 - (a[i] - e * w[i]).min(0.9));
+    if STORE {
+        st.clear();
+        st.resize(end + 1, 0.0);
+    }
     let mut neg = 0usize;
-    // Outward: R_i = U_i − 1/R_{i−1}, 1/R_0 = 0.
-    let mut inv = 0.0;
+    // Outward.
+    let (mut f_prev, mut f) = (0.0f64, 1.0f64);
+    let mut d = d_of(1);
+    let mut sum = w[1] * d * d;
+    let mut sum2 = wr2[1] * d * d;
+    if STORE {
+        st[1] = d;
+    }
     for i in 1..m {
-        let r = guard(u_of(q, vj[i], e) - inv);
-        if r < 0.0 {
+        let u = 12.0 * d - 10.0;
+        let mut f_next = u * f - f_prev;
+        if f_next == 0.0 {
+            f_next = 1e-300 * f.signum();
+        }
+        if (f_next < 0.0) != (f < 0.0) {
             neg += 1;
         }
-        ws.out[i] = r;
-        inv = 1.0 / r;
+        f_prev = f;
+        f = f_next;
+        d = d_of(i + 1);
+        let phi = d * f;
+        sum += w[i + 1] * phi * phi;
+        sum2 += wr2[i + 1] * phi * phi;
+        if STORE {
+            st[i + 1] = phi;
+        }
+        if f.abs() > RESCALE {
+            let s = 1.0 / RESCALE;
+            f *= s;
+            f_prev *= s;
+            sum *= s * s;
+            sum2 *= s * s;
+            if STORE {
+                st[..=i + 1].iter_mut().for_each(|x| *x *= s);
+            }
+        }
     }
-    let inv_out = inv;
-    // Inward: S_i = U_i − 1/S_{i+1}, 1/S_end = 0.
-    let mut inv = 0.0;
+    let d_m = d;
+    let out_ratio = f_prev / f;
+    let sum_out = sum / (f * f);
+    let sum2_out = sum2 / (f * f);
+    if STORE {
+        let s = 1.0 / f;
+        st[..=m].iter_mut().for_each(|x| *x *= s);
+    }
+    // Inward.
+    let (mut g_next, mut g) = (0.0f64, 1.0f64);
+    let mut d = d_of(end - 1);
+    let mut sum = w[end - 1] * d * d;
+    let mut sum2 = wr2[end - 1] * d * d;
+    if STORE {
+        st[end - 1] = d;
+    }
     for i in (m + 1..end).rev() {
-        let s = guard(u_of(q, vj[i], e) - inv);
-        if s < 0.0 {
+        let u = 12.0 * d - 10.0;
+        let mut g_prev = u * g - g_next;
+        if g_prev == 0.0 {
+            g_prev = 1e-300 * g.signum();
+        }
+        if (g_prev < 0.0) != (g < 0.0) {
             neg += 1;
         }
-        ws.inw[i] = s;
-        inv = 1.0 / s;
+        g_next = g;
+        g = g_prev;
+        if i - 1 > m {
+            d = d_of(i - 1);
+            let phi = d * g;
+            sum += w[i - 1] * phi * phi;
+            sum2 += wr2[i - 1] * phi * phi;
+            if STORE {
+                st[i - 1] = phi;
+            }
+        }
+        if g.abs() > RESCALE {
+            let s = 1.0 / RESCALE;
+            g *= s;
+            g_next *= s;
+            sum *= s * s;
+            sum2 *= s * s;
+            if STORE {
+                st[(i - 1).max(m + 1)..end].iter_mut().for_each(|x| *x *= s);
+            }
+        }
     }
-    let gamma = u_of(q, vj[m], e) - inv_out - inv;
+    let in_ratio = g_next / g;
+    if STORE {
+        let s = 1.0 / g;
+        st[m + 1..end].iter_mut().for_each(|x| *x *= s);
+    }
+    let gamma = (12.0 * d_m - 10.0) - out_ratio - in_ratio;
+    let norm = sum_out + sum / (g * g);
     Sweep {
         count: neg + usize::from(gamma < 0.0),
         nodes: neg,
         gamma,
-        m,
+        norm,
+        inv_r2: (sum2_out + sum2 / (g * g)) / norm,
     }
 }
 
-/// Rebuild ψ (F_m = 1) after a sweep into ws.psi[0..=end]; returns Σψ².
-fn reconstruct(grid: &Grid, e: f64, sw: &Sweep, end: usize, ws: &mut Workspace) -> f64 {
-    let q = grid.q;
-    let m = sw.m;
-    let mut sum = 0.0;
-    ws.psi[0] = 0.0;
-    ws.psi[end] = 0.0;
-    let psi_of = |f: f64, v: f64| f / (1.0 - (q * (v - e)).min(0.9));
-    let mut f = 1.0;
-    let p = psi_of(f, grid.vj[m]);
-    ws.psi[m] = p;
-    sum += p * p;
-    for i in (1..m).rev() {
-        f /= ws.out[i];
-        let p = psi_of(f, grid.vj[i]);
-        ws.psi[i] = p;
-        sum += p * p;
-    }
-    let mut f = 1.0;
-    for i in m + 1..end {
-        f /= ws.inw[i];
-        let p = psi_of(f, grid.vj[i]);
-        ws.psi[i] = p;
-        sum += p * p;
-    }
-    sum
-}
-
-/// Result of converging one level on one grid.
-struct Found {
-    e: f64,
-    end: usize,
-}
-
-/// Converge level v on `grid` inside (lo, hi) from `guess`, integrating to index `end`.
+/// Converge level v on `grid` inside the bracket from `guess`, integrating to index `end`.
 fn converge(
     grid: &Grid,
     v: usize,
@@ -414,8 +616,7 @@ fn converge(
     bracket: (f64, f64),
     end: usize,
     tol: f64,
-    ws: &mut Workspace,
-) -> Option<f64> {
+) -> Option<(f64, f64)> {
     let (mut lo, mut hi) = bracket;
     let mut e = if guess > lo && guess < hi {
         guess
@@ -423,7 +624,7 @@ fn converge(
         0.5 * (lo + hi)
     };
     for _ in 0..400 {
-        let sw = sweep(grid, e, end, ws);
+        let sw = sweep(grid, e, end);
         if sw.count > v {
             hi = hi.min(e);
         } else {
@@ -431,11 +632,11 @@ fn converge(
         }
         let mut next = f64::NAN;
         if sw.nodes == v {
-            let s = reconstruct(grid, e, &sw, end, ws);
-            let delta = sw.gamma / (12.0 * grid.q * s);
+            // Cooley–Newton: ΔE = γ_m / (12 Σ w_i φ_i²) with φ_m = 1.
+            let delta = sw.gamma / (12.0 * sw.norm);
             if delta.is_finite() {
                 if delta.abs() < tol {
-                    return Some(e + delta);
+                    return Some((e + delta, sw.inv_r2));
                 }
                 next = e + delta;
             }
@@ -444,30 +645,34 @@ fn converge(
             next = 0.5 * (lo + hi);
         }
         if hi - lo < tol {
-            return Some(0.5 * (lo + hi));
+            let mid = 0.5 * (lo + hi);
+            return Some((mid, sweep(grid, mid, end).inv_r2));
         }
         e = next;
     }
     None
 }
 
-/// Everything fixed before solving: ceiling, box, coarse step.
+/// Everything fixed before solving: ceiling, box, map, coarse step.
 pub(crate) struct Plan {
-    pub(crate) v_min: f64,
-    pub(crate) ceiling: f64,
-    pub(crate) r_a: f64,
-    pub(crate) r_b: f64,
-    pub(crate) h0: f64,
-    pub(crate) omega: f64,
-    pub(crate) limit: Option<f64>,
-    pub(crate) notes: Vec<String>,
+    v_min: f64,
+    ceiling: f64,
+    r_a: f64,
+    r_b: f64,
+    /// Coarse step in x (wavelengths).
+    hx: f64,
+    map: Map,
+    omega: f64,
+    limit: Option<f64>,
+    notes: Vec<String>,
 }
 
+/// Root of f in [a, b] (f(a), f(b) of opposite signs) to 1e-13 relative.
 fn bisect(f: impl Fn(f64) -> f64, mut a: f64, mut b: f64) -> f64 {
     let fa = f(a);
     for _ in 0..200 {
         let c = 0.5 * (a + b);
-        if c == a || c == b {
+        if (b - a).abs() <= 1e-13 * c.abs() {
             break;
         }
         if (f(c) > 0.0) == (fa > 0.0) {
@@ -479,7 +684,7 @@ fn bisect(f: impl Fn(f64) -> f64, mut a: f64, mut b: f64) -> f64 {
     0.5 * (a + b)
 }
 
-pub(crate) fn plan(problem: &Problem<'_>, s: &SolverSettings) -> Result<Plan> {
+pub(crate) fn plan(problem: &Problem<'_>, s: &SolverSettings, allow_map: bool) -> Result<Plan> {
     if !(s.tolerance_cm1.is_finite() && s.tolerance_cm1 > 0.0) {
         return Err(Error::parameter(
             "tolerance",
@@ -524,8 +729,10 @@ pub(crate) fn plan(problem: &Problem<'_>, s: &SolverSettings) -> Result<Plan> {
     }
     let depth = ceiling - v_min;
     let mut notes = Vec::new();
-    let k_max = problem.kappa(depth);
-    let h0 = 2.0 * std::f64::consts::PI / k_max / s.points_per_wavelength;
+    let to_limit = limit == Some(ceiling);
+    let coef = 1.0 / (problem.kin.sqrt() * 2.0 * std::f64::consts::PI);
+    let hx = 1.0 / s.points_per_wavelength;
+    let h0 = hx / (coef * depth.sqrt()); // coarse step in r at the bottom, Å
     // Harmonic estimate ω = √(2 C_u k / μ) from the curvature of V_J at r_e (for guesses only).
     let dr = 1e-3 * re;
     let curv = (problem.vj(re + dr) - 2.0 * problem.vj(re) + problem.vj(re - dr)) / (dr * dr);
@@ -553,7 +760,7 @@ pub(crate) fn plan(problem: &Problem<'_>, s: &SolverSettings) -> Result<Plan> {
             let rt = bisect(|r| problem.vj(r) - ceiling, lo, re);
             let mut r = rt;
             let mut acc = 0.0;
-            let q0 = h0 * h0 * problem.mu / (12.0 * C_U_CM1_U_A2);
+            let q0 = h0 * h0 / (12.0 * problem.kin);
             while acc < s.tail_decay && r - h0 > 0.5 * h0 {
                 let vv = problem.vj(r - h0);
                 if q0 * (vv - v_min) > 0.5 {
@@ -569,6 +776,16 @@ pub(crate) fn plan(problem: &Problem<'_>, s: &SolverSettings) -> Result<Plan> {
             r
         }
     };
+    // Near-threshold levels need a long box; a mapped grid makes it cheap.
+    let binding_out = if to_limit {
+        if allow_map && s.mapped_grid {
+            1e-6
+        } else {
+            1e-4
+        }
+    } else {
+        0.0
+    };
     let r_b = match s.r_max_angstrom {
         Some(r) if r > re => r,
         Some(r) => {
@@ -578,11 +795,7 @@ pub(crate) fn plan(problem: &Problem<'_>, s: &SolverSettings) -> Result<Plan> {
             ));
         }
         None => {
-            let e_out = if s.energy_max_cm1.is_none() || Some(ceiling) == limit {
-                ceiling - 1e-4 * depth
-            } else {
-                ceiling
-            };
+            let e_out = ceiling - binding_out * depth;
             let cap = 1000.0 * re;
             let mut hi = 1.5 * re;
             while problem.vj(hi) < e_out && hi < cap {
@@ -595,8 +808,11 @@ pub(crate) fn plan(problem: &Problem<'_>, s: &SolverSettings) -> Result<Plan> {
             };
             let mut r = rt;
             let mut acc = 0.0;
-            let step = h0.max(1e-3 * rt);
             while acc < s.tail_decay && r < cap {
+                let step = h0
+                    .max(1e-2 * r)
+                    .min(0.5 / problem.kappa(problem.vj(r) - e_out).max(1e-12));
+                let step = step.max(h0);
                 r += step;
                 acc += step * problem.kappa(problem.vj(r) - e_out);
             }
@@ -609,65 +825,121 @@ pub(crate) fn plan(problem: &Problem<'_>, s: &SolverSettings) -> Result<Plan> {
     if r_b.is_nan() || r_b <= r_a {
         return Err(Error::parameter("r_max", "must exceed r_min"));
     }
+    let mut map = Map {
+        mapped: false,
+        k0: depth,
+        e_top: ceiling,
+        re,
+        r1: re,
+        coef,
+    };
+    if allow_map && s.mapped_grid && to_limit {
+        let delta = 1e-5 * depth;
+        let half = v_min + 0.5 * depth;
+        let mut hi = 1.05 * re;
+        while problem.v(hi) < half && hi < r_b {
+            hi *= 1.1;
+        }
+        if hi < r_b {
+            let r1 = bisect(|r| problem.v(r) - half, re, hi);
+            let trial = Map {
+                mapped: true,
+                k0: depth + delta,
+                e_top: ceiling + delta,
+                re,
+                r1,
+                coef,
+            };
+            // The map needs E_max + δ − V > 0 beyond r_e: V must stay below the limit.
+            let samples = 400;
+            let ok = (1..=samples).all(|i| {
+                let r = re * (r_b / re).powf(i as f64 / samples as f64);
+                trial.k_energy(problem, r) > 0.5 * delta
+            });
+            if ok {
+                map = trial;
+            } else {
+                notes.push(
+                    "the curve rises above its limit beyond r_e: a uniform grid is used".into(),
+                );
+            }
+        }
+    }
     Ok(Plan {
         v_min,
         ceiling,
         r_a,
         r_b,
-        h0,
+        hx,
+        map,
         omega,
         limit,
         notes,
     })
 }
 
-/// Levels below the ceiling on one grid: energies (raw scale) and the integration ends.
+/// A level converged on one grid.
+#[derive(Clone, Copy)]
+struct Found {
+    e: f64,
+    end: usize,
+    inv_r2: f64,
+}
+
+/// Levels `wanted` (ascending v) on one grid: energies (raw scale) and integration ends.
 fn solve_grid(
     grid: &Grid,
     plan: &Plan,
     wanted: &[usize],
     guesses: Option<&[f64]>,
     decay: f64,
-    ws: &mut Workspace,
+    tol: f64,
 ) -> Result<Vec<Found>> {
     let n = grid.len();
-    let tol = 1e-10 * (plan.ceiling - plan.v_min);
     let mut out: Vec<Found> = Vec::with_capacity(wanted.len());
     let vmin_j = grid.vj[grid.imin];
     let mut prev: Vec<f64> = Vec::new();
     for (k, &v) in wanted.iter().enumerate() {
-        let lo = if k > 0 && wanted[k - 1] + 1 == v {
+        let consecutive = k > 0 && wanted[k - 1] + 1 == v;
+        let lo = if consecutive {
             out[k - 1].e
         } else {
             plan.v_min.min(vmin_j) - 1.0
         };
-        let spacing = match prev.len() {
+        let l = prev.len();
+        let spacing = match l {
             0 => plan.omega,
-            1 => plan.omega.min(prev[0] - vmin_j).max(1e-9),
-            l => (prev[l - 1] - prev[l - 2]).max(1e-9),
+            1 => plan.omega.min(prev[0] - vmin_j).max(1e-12),
+            _ => (prev[l - 1] - prev[l - 2]).max(1e-12),
         };
         let guess = match guesses {
             Some(g) => g[k],
-            None => match prev.last() {
-                Some(&p) => p + spacing,
-                None => vmin_j + 0.5 * plan.omega,
+            None => match l {
+                0 => vmin_j + 0.5 * plan.omega,
+                1 | 2 => prev[l - 1] + spacing,
+                _ => {
+                    // Quadratic extrapolation of the last three levels, kept below the ceiling.
+                    let q = 3.0 * prev[l - 1] - 3.0 * prev[l - 2] + prev[l - 3];
+                    if q > prev[l - 1] {
+                        q
+                    } else {
+                        prev[l - 1] + spacing
+                    }
+                }
             },
         };
         let probe = match guesses {
-            Some(_) => (guess + 1e-3 * spacing).min(plan.ceiling),
-            None => (guess + 2.0 * spacing).min(plan.ceiling),
-        };
+            Some(_) => guess + 1e-3 * spacing,
+            None => guess + 2.0 * spacing,
+        }
+        .min(plan.ceiling);
         let mut end = grid.tail_end(probe, decay).max(grid.imin + 4).min(n - 1);
         let mut found = None;
         for attempt in 0..2 {
-            let e = converge(grid, v, guess, (lo, plan.ceiling), end, tol, ws);
-            if let Some(e) = e {
-                let sw = sweep(grid, e, end, ws);
-                let ok = e < plan.ceiling
-                    && (sw.nodes == v || sw.count == v || sw.count == v + 1)
-                    && (end == n - 1 || grid.outer_decay(e, end) >= 0.9 * decay);
+            if let Some((e, inv_r2)) = converge(grid, v, guess, (lo, plan.ceiling), end, tol) {
+                let ok = e < plan.ceiling && (end == n - 1 || grid.decays_by(e, end, 0.9 * decay));
                 if ok {
-                    found = Some(e);
+                    found = Some((e, inv_r2));
                     break;
                 }
             }
@@ -675,35 +947,37 @@ fn solve_grid(
                 end = n - 1;
             }
         }
-        let Some(e) = found else {
+        let Some((e, inv_r2)) = found else {
             return Err(Error::numerical(
                 "level solver",
                 format!("level v = {v} did not converge below the energy ceiling"),
             ));
         };
         prev.push(e);
-        out.push(Found { e, end });
+        out.push(Found { e, end, inv_r2 });
     }
     Ok(out)
 }
 
-/// Normalised ψ on the grid (ws.psi[0..=end]) and Σψ²/r² ⟨1/r²⟩ for a converged level.
-fn level_state(grid: &Grid, e: f64, end: usize, ws: &mut Workspace) -> f64 {
-    let sw = sweep(grid, e, end, ws);
-    let s = reconstruct(grid, e, &sw, end, ws);
-    let norm = 1.0 / (s * grid.h).sqrt();
-    let mut inv_r2 = 0.0;
+/// Normalised physical ψ_i = √r′ φ_i / √(h Σ r′² φ²) into `psi`; returns ⟨1/r²⟩.
+fn level_state(grid: &Grid, e: f64, end: usize, psi: &mut Vec<f64>) -> f64 {
+    sweep_store(grid, e, end, psi);
+    let (mut norm, mut inv_r2) = (0.0, 0.0);
     for i in 1..end {
-        ws.psi[i] *= norm;
-        let r = grid.r(i);
-        inv_r2 += ws.psi[i] * ws.psi[i] / (r * r);
+        let p2 = grid.jac[i] * grid.jac[i] * psi[i] * psi[i];
+        norm += p2;
+        inv_r2 += p2 / (grid.r[i] * grid.r[i]);
     }
-    inv_r2 * grid.h
+    let scale = 1.0 / (norm * grid.h).sqrt();
+    for i in 1..end {
+        psi[i] *= scale * grid.jac[i].sqrt();
+    }
+    inv_r2 / norm
 }
 
-/// Count of levels below the ceiling on a full grid.
-fn count_levels(grid: &Grid, ceiling: f64, ws: &mut Workspace) -> usize {
-    sweep(grid, ceiling, grid.len() - 1, ws).count
+/// Count of levels below the ceiling on the full grid.
+fn count_levels(grid: &Grid, ceiling: f64) -> usize {
+    sweep(grid, ceiling, grid.len() - 1).count
 }
 
 /// A solved level on one grid with its expectation value.
@@ -725,21 +999,14 @@ pub fn solve_levels(
     settings: &SolverSettings,
 ) -> Result<LevelSet> {
     let problem = Problem::new(potential, mu_u, settings.j)?;
-    let mut plan = plan(&problem, settings)?;
-    let intervals = ((plan.r_b - plan.r_a) / plan.h0).ceil().max(8.0) as usize;
-    if intervals > 4_000_000 {
-        return Err(Error::parameter(
-            "grid",
-            format!(
-                "{intervals} points would be needed; narrow r_min … r_max or lower points per wavelength"
-            ),
-        ));
-    }
-    let mut ws = Workspace::default();
-    let mut grids = vec![Grid::new(&problem, plan.r_a, plan.r_b, intervals)?];
-    grids.push(grids[0].refine(&problem)?);
-    let c0 = count_levels(&grids[0], plan.ceiling, &mut ws);
-    let c1 = count_levels(&grids[1], plan.ceiling, &mut ws);
+    let mut plan = plan(&problem, settings, true)?;
+    let tol = settings.tolerance_cm1;
+    let tol_e = (1e-4 * tol).max(1e-13 * (plan.ceiling - plan.v_min));
+    let decay = settings.tail_decay;
+    let mut grids = vec![Grid::new(&problem, &plan.map, plan.r_a, plan.r_b, plan.hx)?];
+    grids.push(grids[0].refine(&problem, &plan.map)?);
+    let c0 = count_levels(&grids[0], plan.ceiling);
+    let c1 = count_levels(&grids[1], plan.ceiling);
     let mut n_levels = c0.min(c1);
     if c0 != c1 {
         plan.notes.push(format!(
@@ -751,29 +1018,24 @@ pub fn solve_levels(
         n_levels = n_levels.min(mx);
     }
     let all: Vec<usize> = (0..n_levels).collect();
-    let decay = settings.tail_decay;
-    let coarse = solve_grid(&grids[0], &plan, &all, None, decay, &mut ws)?;
-    let guesses: Vec<f64> = coarse.iter().map(|f| f.e).collect();
-    let fine = solve_grid(&grids[1], &plan, &all, Some(&guesses), decay, &mut ws)?;
-    let mut prev: Vec<Solved> = coarse
-        .iter()
-        .map(|f| Solved {
-            e: f.e,
-            inv_r2: level_state(&grids[0], f.e, f.end, &mut ws),
-            grid: 0,
-            end: f.end,
-        })
-        .collect();
-    let mut last: Vec<Solved> = fine
-        .iter()
-        .map(|f| Solved {
-            e: f.e,
-            inv_r2: level_state(&grids[1], f.e, f.end, &mut ws),
-            grid: 1,
-            end: f.end,
-        })
-        .collect();
-    let tol = settings.tolerance_cm1;
+    let coarse = solve_grid(&grids[0], &plan, &all, None, decay, tol_e)?;
+    // Fine-grid guesses: the coarse energy moved by the previous level's coarse → fine shift.
+    let mut fine = Vec::with_capacity(n_levels);
+    let mut shift = 0.0;
+    for (v, c) in coarse.iter().enumerate() {
+        let f = solve_grid(&grids[1], &plan, &[v], Some(&[c.e + shift]), decay, tol_e)?[0];
+        shift = f.e - c.e;
+        fine.push(f);
+    }
+    let mut psi = Vec::new();
+    let solved = |f: &Found, grid: usize| Solved {
+        e: f.e,
+        inv_r2: f.inv_r2,
+        grid,
+        end: f.end,
+    };
+    let mut prev: Vec<Solved> = coarse.iter().map(|f| solved(f, 0)).collect();
+    let mut last: Vec<Solved> = fine.iter().map(|f| solved(f, 1)).collect();
     let err = |a: &Solved, b: &Solved| (b.e - a.e).abs() / 15.0;
     let mut halvings = 1u32;
     loop {
@@ -784,23 +1046,16 @@ pub fn solve_levels(
             break;
         }
         let g = grids.len() - 1;
-        let next = grids[g].refine(&problem)?;
+        let next = grids[g].refine(&problem, &plan.map)?;
         grids.push(next);
         let guesses: Vec<f64> = todo
             .iter()
             .map(|&v| (16.0 * last[v].e - prev[v].e) / 15.0)
             .collect();
-        let found = solve_grid(&grids[g + 1], &plan, &todo, Some(&guesses), decay, &mut ws)?;
+        let found = solve_grid(&grids[g + 1], &plan, &todo, Some(&guesses), decay, tol_e)?;
         for (k, &v) in todo.iter().enumerate() {
-            let f = &found[k];
-            let inv_r2 = level_state(&grids[g + 1], f.e, f.end, &mut ws);
             prev[v] = last[v];
-            last[v] = Solved {
-                e: f.e,
-                inv_r2,
-                grid: g + 1,
-                end: f.end,
-            };
+            last[v] = solved(&found[k], g + 1);
         }
         halvings += 1;
     }
@@ -815,11 +1070,11 @@ pub fn solve_levels(
             converged = false;
         }
         let grid = &grids[b.grid];
-        let boundary_limited = grid.outer_decay(e, grid.len() - 1) < 0.5 * decay;
+        let boundary_limited = !grid.decays_by(e, grid.len() - 1, 0.5 * decay);
         let (r_in, r_out) = turning_points(&problem, grid, e);
         let wavefunction = (settings.wavefunction_points > 0).then(|| {
-            level_state(grid, b.e, b.end, &mut ws);
-            sample_wavefunction(grid, &ws.psi[..=b.end], settings.wavefunction_points)
+            level_state(grid, b.e, b.end, &mut psi);
+            sample_wavefunction(grid, &psi[..=b.end], settings.wavefunction_points)
         });
         levels.push(BoundLevel {
             v: v as u32,
@@ -846,7 +1101,7 @@ pub fn solve_levels(
                 .into(),
         );
     }
-    let finest = grids.last().map_or(plan.h0, |g| g.h);
+    let step_at_min = |g: &Grid| g.h * g.jac[g.imin];
     Ok(LevelSet {
         mu_u,
         j: settings.j,
@@ -856,9 +1111,11 @@ pub fn solve_levels(
         levels,
         grid: GridInfo {
             r_min_angstrom: plan.r_a,
-            r_max_angstrom: plan.r_b,
-            step_coarse_angstrom: grids[0].h,
-            step_finest_angstrom: finest,
+            r_max_angstrom: grids[0].r[grids[0].len() - 1],
+            mapped: plan.map.mapped,
+            points_coarse: grids[0].len(),
+            step_coarse_angstrom: step_at_min(&grids[0]),
+            step_finest_angstrom: grids.last().map_or(0.0, step_at_min),
             halvings,
         },
         converged,
@@ -871,15 +1128,15 @@ fn turning_points(problem: &Problem<'_>, grid: &Grid, e: f64) -> (f64, f64) {
     let f = |r: f64| problem.vj(r) - e;
     let i = grid.inner_turning_index(e);
     let r_in = if grid.vj[i] >= e && i < grid.imin {
-        bisect(f, grid.r(i), grid.r(i + 1))
+        bisect(f, grid.r[i], grid.r[i + 1])
     } else {
-        grid.r(i)
+        grid.r[i]
     };
     let o = grid.outer_turning_index(e);
     let r_out = if grid.vj[o] >= e && o > grid.imin {
-        bisect(f, grid.r(o - 1), grid.r(o))
+        bisect(f, grid.r[o - 1], grid.r[o])
     } else {
-        grid.r(o)
+        grid.r[o]
     };
     (r_in, r_out)
 }
@@ -903,12 +1160,12 @@ fn sample_wavefunction(grid: &Grid, psi: &[f64], points: usize) -> Wavefunction 
     let mut p = Vec::with_capacity(span / stride + 2);
     let mut i = first;
     while i <= last {
-        r.push(grid.r(i));
+        r.push(grid.r[i]);
         p.push(sign * psi[i]);
         i += stride;
     }
     if (last - first) % stride != 0 {
-        r.push(grid.r(last));
+        r.push(grid.r[last]);
         p.push(sign * psi[last]);
     }
     Wavefunction {
@@ -917,53 +1174,65 @@ fn sample_wavefunction(grid: &Grid, psi: &[f64], points: usize) -> Wavefunction 
     }
 }
 
-/// Wavefunctions of the lowest levels of each potential on one common grid (for overlaps).
+/// Normalised wavefunctions of the levels of one curve on a common uniform grid.
 pub(crate) struct CommonGridStates {
     pub(crate) energies: Vec<f64>,
     pub(crate) psi: Vec<Vec<f64>>,
-    pub(crate) v_min: f64,
 }
 
+/// Solve several problems on one uniform grid (union of their boxes, finest step / 2^halvings);
+/// returns their states and the step in Å.
 pub(crate) fn common_grid_states(
     problems: &[(&Problem<'_>, &SolverSettings)],
     halvings: u32,
 ) -> Result<(Vec<CommonGridStates>, f64)> {
     let plans = problems
         .iter()
-        .map(|(p, s)| plan(p, s))
+        .map(|(p, s)| plan(p, s, false))
         .collect::<Result<Vec<_>>>()?;
     let r_a = plans.iter().map(|p| p.r_a).fold(f64::INFINITY, f64::min);
     let r_b = plans.iter().map(|p| p.r_b).fold(0.0, f64::max);
-    let h = plans.iter().map(|p| p.h0).fold(f64::INFINITY, f64::min) / f64::from(1u32 << halvings);
-    let intervals = ((r_b - r_a) / h).ceil() as usize;
-    if intervals > 4_000_000 {
+    let h = plans
+        .iter()
+        .map(|p| p.hx / (p.map.coef * p.map.k0.sqrt()))
+        .fold(f64::INFINITY, f64::min)
+        / f64::from(1u32 << halvings);
+    if (r_b - r_a) / h > 4e6 {
         return Err(Error::parameter(
             "grid",
             "too many points for a common grid",
         ));
     }
-    let mut ws = Workspace::default();
     let mut out = Vec::new();
     for ((problem, s), plan) in problems.iter().zip(&plans) {
-        let grid = Grid::new(problem, r_a, r_b, intervals)?;
-        let mut n = count_levels(&grid, plan.ceiling, &mut ws);
+        // A uniform map with this problem's constant, stepping h Å per point.
+        let map = Map {
+            mapped: false,
+            k0: 1.0,
+            e_top: 0.0,
+            re: 0.0,
+            r1: 0.0,
+            coef: 1.0,
+        };
+        let grid = Grid::new(problem, &map, r_a, r_b, h)?;
+        let mut n = count_levels(&grid, plan.ceiling);
         if let Some(mx) = s.max_levels {
             n = n.min(mx);
         }
         let all: Vec<usize> = (0..n).collect();
-        let found = solve_grid(&grid, plan, &all, None, s.tail_decay, &mut ws)?;
+        let tol = (1e-4 * s.tolerance_cm1).max(1e-13 * (plan.ceiling - plan.v_min));
+        let found = solve_grid(&grid, plan, &all, None, s.tail_decay, tol)?;
         let mut psi = Vec::with_capacity(n);
+        let mut buf = Vec::new();
         for f in &found {
-            // Full-length ψ with zeros beyond the level's integration end.
-            level_state(&grid, f.e, f.end, &mut ws);
+            level_state(&grid, f.e, f.end, &mut buf);
             let mut full = vec![0.0; grid.len()];
-            full[..=f.end].copy_from_slice(&ws.psi[..=f.end]);
+            full[1..f.end].copy_from_slice(&buf[1..f.end]);
             psi.push(full);
         }
         out.push(CommonGridStates {
             energies: found.iter().map(|f| f.e - plan.v_min).collect(),
             psi,
-            v_min: plan.v_min,
         });
     }
     Ok((out, h))
