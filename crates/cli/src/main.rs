@@ -7,7 +7,10 @@
 
 use std::process::ExitCode;
 
-use clap::{Parser, Subcommand};
+use clap::{Parser, Subcommand, ValueEnum};
+
+mod levels;
+mod potential;
 
 /// Vibrational analysis of diatomic molecules: constants, numbering, dissociation limits.
 #[derive(Debug, Parser)]
@@ -21,6 +24,33 @@ struct Cli {
 enum Command {
     /// Print the version of the numerics and the constants set.
     Version,
+    /// RKR and Morse turning points from ωe, ωexe, Be, αe, … (and the RKR curve solved back).
+    Potential(potential::PotentialArgs),
+    /// Bound levels of a pointwise potential curve (r, V table).
+    Levels(levels::LevelsArgs),
+}
+
+/// Output format of a report.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Format {
+    /// Aligned plain text.
+    Text,
+    /// JSON.
+    Json,
+}
+
+/// Print a command's output, or its error with exit code 2.
+fn finish(result: Result<String, String>) -> ExitCode {
+    match result {
+        Ok(text) => {
+            print!("{text}");
+            ExitCode::SUCCESS
+        }
+        Err(message) => {
+            eprintln!("rungs: {message}");
+            ExitCode::from(2)
+        }
+    }
 }
 
 fn main() -> ExitCode {
@@ -34,5 +64,7 @@ fn main() -> ExitCode {
             );
             ExitCode::SUCCESS
         }
+        Command::Potential(args) => finish(potential::run(&args)),
+        Command::Levels(args) => finish(levels::run(&args)),
     }
 }

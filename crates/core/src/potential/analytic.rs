@@ -221,9 +221,19 @@ impl LennardJones {
         self.n * self.de_cm1 * self.re_angstrom.powf(self.m) / (self.n - self.m)
     }
 
+    /// x^p; small non-negative integer powers by repeated squaring (inlined, exact to rounding).
+    #[inline]
     fn pow(x: f64, p: f64) -> f64 {
-        if p.fract() == 0.0 && p.abs() < 64.0 {
-            x.powi(p as i32)
+        if p.fract() == 0.0 && (0.0..64.0).contains(&p) {
+            let (mut base, mut n, mut acc) = (x, p as u32, 1.0);
+            while n > 0 {
+                if n & 1 == 1 {
+                    acc *= base;
+                }
+                base *= base;
+                n >>= 1;
+            }
+            acc
         } else {
             x.powf(p)
         }

@@ -30,7 +30,10 @@ pub use analytic::{Harmonic, LennardJones, Morse};
 pub use compare::{Alignment, LoopCheck, LoopRow, Verdict, compare_levels};
 pub use fcf::{FcfSettings, FcfTable, franck_condon_factors};
 pub use pointwise::{EnergyUnit, LengthUnit, PointwisePotential, parse_two_column};
-pub use rkr::{RkrCurve, RkrInput, RkrPoint, RkrPotential, RotationInput, rkr_turning_points};
+pub use rkr::{
+    ConstantsLevel, ConstantsPotential, DiatomicConstants, RkrCurve, RkrInput, RkrPoint,
+    RkrPotential, RotationInput, potential_from_constants, rkr_turning_points,
+};
 pub use solver::{BoundLevel, GridInfo, LevelSet, SolverSettings, Wavefunction, solve_levels};
 pub use walls::{OuterWall, WallFit};
 

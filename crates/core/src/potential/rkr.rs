@@ -20,6 +20,7 @@
 use nalgebra::DMatrix;
 use serde::{Deserialize, Serialize};
 
+use super::analytic::Morse;
 use super::pointwise::PointwisePotential;
 use super::quadrature::gauss_legendre;
 use super::walls::OuterWall;
@@ -333,7 +334,31 @@ impl RkrInput {
         Ok(x - 0.5)
     }
 
-    /// G(v) from the potential minimum... as given: Σ Y_k0 (v+½)^k, cm⁻¹.
+    /// A sensible default top level for RKR: the highest integer v (at most 200) at which the
+    /// slope G′(v) is still at least 10 % of its value at v_min and B(v) is positive (near the
+    /// top of a Dunham G(v) the Klein integrals lose meaning).
+    pub fn default_v_max(&self) -> Result<u32> {
+        let p = Prepared::new(self)?;
+        let slope0 = horner_d(&p.g, p.x_min);
+        let mut v_max = None;
+        for v in 0..=200u32 {
+            let x = f64::from(v) + 0.5;
+            if x <= p.x_min {
+                continue;
+            }
+            let ok = (0..=20).all(|k| {
+                let xx = p.x_min + (x - p.x_min) * f64::from(k) / 20.0;
+                horner_d(&p.g, xx) >= 0.1 * slope0 && p.b_at(xx) > 0.0
+            });
+            if !ok {
+                break;
+            }
+            v_max = Some(v);
+        }
+        v_max.ok_or_else(|| Error::parameter("v_max", "G(v) does not rise up to v = 0"))
+    }
+
+    /// G(v) = Σ Y_k0 (v+½)^k as given, cm⁻¹ (from the minimum when Y00 is the Dunham Y00).
     pub fn g_cm1_at(&self, v: f64) -> f64 {
         horner(&self.g_cm1, v + 0.5)
     }
@@ -490,4 +515,163 @@ impl Potential for RkrPotential {
     fn asymptote_cm1(&self) -> Option<f64> {
         self.curve_fit.asymptote_cm1()
     }
+}
+
+/// Vibration–rotation constants of one electronic state (cm⁻¹), as a fit or a table gives them.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, Default)]
+#[serde(default)]
+pub struct DiatomicConstants {
+    /// Y00 (usually 0), cm⁻¹.
+    pub y00_cm1: f64,
+    /// ωe, cm⁻¹.
+    pub we_cm1: f64,
+    /// ωexe, cm⁻¹ (G = ωe(v+½) − ωexe(v+½)² + ωeye(v+½)³ + ωeze(v+½)⁴).
+    pub wexe_cm1: f64,
+    /// ωeye, cm⁻¹.
+    pub weye_cm1: f64,
+    /// ωeze, cm⁻¹.
+    pub weze_cm1: f64,
+    /// Be, cm⁻¹.
+    pub be_cm1: f64,
+    /// αe, cm⁻¹ (B = Be − αe(v+½) + γe(v+½)²).
+    pub alphae_cm1: f64,
+    /// γe, cm⁻¹.
+    pub gammae_cm1: f64,
+}
+
+impl DiatomicConstants {
+    /// The RKR input these constants define, for reduced mass μ (u).
+    pub fn rkr_input(&self, mu_u: f64) -> RkrInput {
+        RkrInput {
+            g_cm1: vec![
+                self.y00_cm1,
+                self.we_cm1,
+                -self.wexe_cm1,
+                self.weye_cm1,
+                self.weze_cm1,
+            ],
+            rotation: RotationInput::Dunham(vec![self.be_cm1, -self.alphae_cm1, self.gammae_cm1]),
+            mu_u,
+        }
+    }
+}
+
+/// One row of [`ConstantsPotential`]: a level's RKR and Morse turning points and, when the RKR
+/// curve was solved, the level recomputed from it.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ConstantsLevel {
+    /// Vibrational quantum number.
+    pub v: u32,
+    /// G(v) from the potential minimum, cm⁻¹.
+    pub energy_cm1: f64,
+    /// B(v) from the constants, cm⁻¹.
+    pub b_v_cm1: f64,
+    /// RKR inner turning point, Å.
+    pub r_inner_angstrom: f64,
+    /// RKR outer turning point, Å.
+    pub r_outer_angstrom: f64,
+    /// Morse turning points (r₋, r₊) at the same energy, Å, when below the Morse D_e.
+    pub morse_turning_points_angstrom: Option<(f64, f64)>,
+    /// Level of the RKR curve (Numerov solver), cm⁻¹ from its minimum.
+    pub solved_energy_cm1: Option<f64>,
+    /// B_v of the RKR curve, cm⁻¹.
+    pub solved_b_v_cm1: Option<f64>,
+}
+
+/// RKR and Morse curves from a set of constants, with the closing-the-loop check.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ConstantsPotential {
+    /// Reduced mass, u.
+    pub mu_u: f64,
+    /// v_min (G(v_min) = 0).
+    pub v_min: f64,
+    /// r_e from B(v_min), Å.
+    pub re_angstrom: f64,
+    /// The Morse curve from ωe, ωexe and r_e (None when ωexe ≤ 0).
+    pub morse: Option<Morse>,
+    /// Integer levels v = 0 … v_max.
+    pub levels: Vec<ConstantsLevel>,
+    /// RKR warnings (inner-wall turnover, …) and solver notes.
+    pub warnings: Vec<String>,
+}
+
+/// RKR turning points for v = 0 … `v_max` (integers), Morse turning points at the same energies,
+/// and the levels of the RKR curve (walls extended, outer wall by `outer`) solved back, so the
+/// user sees how well the curve returns the G(v) it came from.
+pub fn potential_from_constants(
+    constants: &DiatomicConstants,
+    mu_u: f64,
+    v_max: u32,
+    outer: OuterWall,
+) -> Result<ConstantsPotential> {
+    use super::analytic::re_from_be;
+    use super::solver::{SolverSettings, solve_levels};
+    let input = constants.rkr_input(mu_u);
+    let vs: Vec<f64> = (0..=v_max).map(f64::from).collect();
+    let curve = rkr_turning_points(&input, &vs)?;
+    let re = re_from_be(constants.be_cm1, mu_u)?;
+    let morse = if constants.wexe_cm1 > 0.0 {
+        Some(Morse::from_constants(
+            constants.we_cm1,
+            constants.wexe_cm1,
+            mu_u,
+            re,
+        )?)
+    } else {
+        None
+    };
+    let mut warnings = curve.warnings.clone();
+    let solved = match RkrPotential::new(&input, f64::from(v_max) + 0.5, outer) {
+        Ok(pot) => {
+            let top = curve.points.last().map_or(0.0, |p| p.energy_cm1);
+            let settings = SolverSettings {
+                max_levels: Some(v_max as usize + 1),
+                energy_max_cm1: (pot.asymptote_cm1().is_none()).then_some(top * 1.2 + 1.0),
+                wavefunction_points: 0,
+                ..Default::default()
+            };
+            match solve_levels(&pot, mu_u, &settings) {
+                Ok(set) => {
+                    warnings.extend(set.notes.iter().cloned());
+                    Some(set.levels)
+                }
+                Err(e) => {
+                    warnings.push(format!("the RKR curve could not be solved: {e}"));
+                    None
+                }
+            }
+        }
+        Err(e) => {
+            warnings.push(format!("no RKR curve could be built for solving: {e}"));
+            None
+        }
+    };
+    let levels = curve
+        .points
+        .iter()
+        .map(|p| {
+            let v = p.v as u32;
+            let s = solved.as_ref().and_then(|l| l.get(v as usize));
+            ConstantsLevel {
+                v,
+                energy_cm1: p.energy_cm1,
+                b_v_cm1: p.b_cm1,
+                r_inner_angstrom: p.r_inner_angstrom,
+                r_outer_angstrom: p.r_outer_angstrom,
+                morse_turning_points_angstrom: morse
+                    .as_ref()
+                    .and_then(|m| m.turning_points(p.energy_cm1)),
+                solved_energy_cm1: s.map(|l| l.energy_cm1),
+                solved_b_v_cm1: s.map(|l| l.b_v_cm1),
+            }
+        })
+        .collect();
+    Ok(ConstantsPotential {
+        mu_u,
+        v_min: curve.v_min,
+        re_angstrom: curve.re_angstrom,
+        morse,
+        levels,
+        warnings,
+    })
 }

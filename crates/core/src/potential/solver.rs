@@ -268,18 +268,52 @@ impl Map {
         self.coef * self.k_energy(problem, r).max(1e-300).sqrt()
     }
 
-    /// Schwarzian {r, x} = (1.5 ρ′² − ρ ρ″)/ρ⁴ of the map at r (0 where ρ is constant).
-    fn schwarzian(&self, problem: &Problem<'_>, r: f64) -> f64 {
+    /// V_J, r′ = 1/ρ and the Schwarzian {r, x} = (1.5 ρ′² − ρ ρ″)/ρ⁴ at r, with one evaluation
+    /// of V and two of V′. With ρ = c √K: {r, x} = [⅝ (K′/K)² − ½ K″/K]/(c² K); K′ and K″ follow
+    /// from V′, V″ (V″ by a central difference of V′, relative step 10⁻⁴) and the blend.
+    fn local(&self, problem: &Problem<'_>, r: f64) -> (f64, f64, f64) {
+        let v = problem.v(r);
+        let vj = v + problem.cent / (r * r);
         if !self.mapped || r <= self.re {
-            return 0.0;
+            return (vj, 1.0 / (self.coef * self.k0.sqrt()), 0.0);
         }
-        // Five-point central differences (truncation O(ε⁴)).
-        let eps = 2e-3 * (self.r1 - self.re).max(r - self.re);
-        let rho = |k: f64| self.rho(problem, r + k * eps);
-        let (m2, m1, c, p1, p2) = (rho(-2.0), rho(-1.0), rho(0.0), rho(1.0), rho(2.0));
-        let d1 = (m2 - 8.0 * m1 + 8.0 * p1 - p2) / (12.0 * eps);
-        let d2 = (-m2 + 16.0 * m1 - 30.0 * c + 16.0 * p1 - p2) / (12.0 * eps * eps);
-        (1.5 * d1 * d1 - c * d2) / (c * c * c * c)
+        let len = self.r1 - self.re;
+        let t = (r - self.re) / len;
+        let pot = problem.pot;
+        let eps = 1e-4 * len.max(r - self.re);
+        let d1 = pot.derivative_cm1_per_angstrom(r);
+        let d2 = (pot.derivative_cm1_per_angstrom(r + eps)
+            - pot.derivative_cm1_per_angstrom(r - eps))
+            / (2.0 * eps);
+        let (r2, r3) = (r * r, r * r * r);
+        let w0 = self.e_top - v + self.floor / r2;
+        let w1 = -d1 - 2.0 * self.floor / r3;
+        let w2 = -d2 + 6.0 * self.floor / (r2 * r2);
+        let (k, k1, k2) = if t >= 1.0 {
+            (w0, w1, w2)
+        } else {
+            // s = 1/(1 + e^{−u}), u = 1/(1 − t) − 1/t (the C∞ step), derivatives in r.
+            let s = smooth_step(t);
+            let q = s * (1.0 - s);
+            let (ut, utt) = (
+                1.0 / (t * t) + 1.0 / ((1.0 - t) * (1.0 - t)),
+                -2.0 / (t * t * t) + 2.0 / ((1.0 - t) * (1.0 - t) * (1.0 - t)),
+            );
+            let s1 = if q > 0.0 { q * ut / len } else { 0.0 };
+            let s2 = if q > 0.0 {
+                q * (utt + (1.0 - 2.0 * s) * ut * ut) / (len * len)
+            } else {
+                0.0
+            };
+            (
+                self.k0 * (1.0 - s) + s * w0,
+                s1 * (w0 - self.k0) + s * w1,
+                s2 * (w0 - self.k0) + 2.0 * s1 * w1 + s * w2,
+            )
+        };
+        let k = k.max(1e-300);
+        let schw = (0.625 * (k1 / k) * (k1 / k) - 0.5 * k2 / k) / (self.coef * self.coef * k);
+        (vj, 1.0 / (self.coef * k.sqrt()), schw)
     }
 
     /// r after a step dx from r (dr/dx = 1/ρ) by classical RK4 with at least `n` substeps, more
@@ -331,11 +365,7 @@ pub(crate) struct Grid {
 
 impl Grid {
     fn point_values(problem: &Problem<'_>, map: &Map, r: f64) -> (f64, f64, f64) {
-        (
-            problem.vj(r),
-            1.0 / map.rho(problem, r),
-            map.schwarzian(problem, r),
-        )
+        map.local(problem, r)
     }
 
     /// Step h (in wavelengths) from r_a until r ≥ r_b.
@@ -520,88 +550,160 @@ const RESCALE: f64 = 1e100;
 /// F_{i+1} = U_i F_i − F_{i−1} (rescaled against overflow). Sign changes of consecutive values
 /// are the negative pivots of the twisted factorisation.
 fn sweep(grid: &Grid, e: f64, end: usize) -> Sweep {
-    sweep_impl::<false>(grid, e, end, &mut Vec::new())
-}
-
-/// [`sweep`] that also writes φ_i (φ_m = 1) to `store[0..=end]`.
-fn sweep_store(grid: &Grid, e: f64, end: usize, store: &mut Vec<f64>) -> Sweep {
-    sweep_impl::<true>(grid, e, end, store)
-}
-
-fn sweep_impl<const STORE: bool>(grid: &Grid, e: f64, end: usize, st: &mut Vec<f64>) -> Sweep {
-    let m = grid
-        .outer_turning_index(e)
-        .saturating_sub(1)
-        .clamp(2, end - 2);
-    let (a, w, wr2) = (&grid.a, &grid.w, &grid.wr2);
-    let d_of = |i: usize| 1.0 / (1.0 - (a[i] - e * w[i]).min(0.9));
-    if STORE {
-        st.clear();
-        st.resize(end + 1, 0.0);
+    let m = match_index(grid, e, end);
+    let mut out = Chain::start(grid, e, 1);
+    let mut inw = Chain::start(grid, e, end - 1);
+    // The two recursions are independent: interleaving them hides the latency of each.
+    let (n_out, n_in) = (m - 1, end - 1 - m);
+    let both = n_out.min(n_in);
+    for k in 0..both {
+        out.step(grid, e, 2 + k, true);
+        inw.step(grid, e, end - 2 - k, end - 2 - k > m);
     }
+    for k in both..n_out {
+        out.step(grid, e, 2 + k, true);
+    }
+    for k in both..n_in {
+        inw.step(grid, e, end - 2 - k, end - 2 - k > m);
+    }
+    // out: x = F_m, x_prev = F_{m−1}; inw: x = G_m, x_prev = G_{m+1}.
+    let d_m = d_factor(grid, e, m);
+    let gamma = (12.0 * d_m - 10.0) - out.x_prev / out.x - inw.x_prev / inw.x;
+    let (fo, gi) = (out.x * out.x, inw.x * inw.x);
+    let norm = out.sum / fo + inw.sum / gi;
+    Sweep {
+        count: out.neg + inw.neg + usize::from(gamma < 0.0),
+        nodes: out.neg + inw.neg,
+        gamma,
+        norm,
+        inv_r2: (out.sum2 / fo + inw.sum2 / gi) / norm,
+    }
+}
+
+/// The match point: the last classically allowed point, kept inside (2, end − 2).
+fn match_index(grid: &Grid, e: f64, end: usize) -> usize {
+    grid.outer_turning_index(e)
+        .saturating_sub(1)
+        .clamp(2, end - 2)
+}
+
+/// d_i = 1/(1 − T_i), so that φ_i = d_i F_i and U_i = 12 d_i − 10. T is capped at 0.9 (reached
+/// only deep in forbidden regions on coarse grids), which keeps M(E) monotone in E.
+#[inline(always)]
+fn d_factor(grid: &Grid, e: f64, i: usize) -> f64 {
+    1.0 / (1.0 - (grid.a[i] - e * grid.w[i]).min(0.9))
+}
+
+/// One direction of the three-term recursion x_next = U_i x − x_prev, with its sign changes and
+/// the running sums Σ w φ², Σ w φ²/r² (φ = d x).
+struct Chain {
+    x_prev: f64,
+    x: f64,
+    /// d at the current point.
+    d: f64,
+    sum: f64,
+    sum2: f64,
+    neg: usize,
+}
+
+impl Chain {
+    /// x = 1 at `first` (the neighbour of a boundary where x = 0).
+    #[inline(always)]
+    fn start(grid: &Grid, e: f64, first: usize) -> Self {
+        let d = d_factor(grid, e, first);
+        Self {
+            x_prev: 0.0,
+            x: 1.0,
+            d,
+            sum: grid.w[first] * d * d,
+            sum2: grid.wr2[first] * d * d,
+            neg: 0,
+        }
+    }
+
+    /// Advance to point `j` (a neighbour of the current one); add it to the sums if `include`.
+    #[inline(always)]
+    fn step(&mut self, grid: &Grid, e: f64, j: usize, include: bool) {
+        let mut next = (12.0 * self.d - 10.0) * self.x - self.x_prev;
+        if next == 0.0 {
+            next = 1e-300 * self.x.signum();
+        }
+        self.neg += usize::from((next < 0.0) != (self.x < 0.0));
+        self.x_prev = self.x;
+        self.x = next;
+        self.d = d_factor(grid, e, j);
+        if include {
+            let phi = self.d * next;
+            let p2 = phi * phi;
+            self.sum += grid.w[j] * p2;
+            self.sum2 += grid.wr2[j] * p2;
+        }
+        if next.abs() > RESCALE {
+            let s = 1.0 / RESCALE;
+            self.x *= s;
+            self.x_prev *= s;
+            self.sum *= s * s;
+            self.sum2 *= s * s;
+        }
+    }
+}
+
+/// [`sweep`] done sequentially, also writing φ_i (φ_m = 1) to `st[0..=end]`.
+fn sweep_store(grid: &Grid, e: f64, end: usize, st: &mut Vec<f64>) -> Sweep {
+    let m = match_index(grid, e, end);
+    let (w, wr2) = (&grid.w, &grid.wr2);
+    let d_of = |i: usize| d_factor(grid, e, i);
+    st.clear();
+    st.resize(end + 1, 0.0);
     let mut neg = 0usize;
     // Outward.
     let (mut f_prev, mut f) = (0.0f64, 1.0f64);
     let mut d = d_of(1);
     let mut sum = w[1] * d * d;
     let mut sum2 = wr2[1] * d * d;
-    if STORE {
-        st[1] = d;
-    }
+    st[1] = d;
     for i in 1..m {
         let u = 12.0 * d - 10.0;
         let mut f_next = u * f - f_prev;
         if f_next == 0.0 {
             f_next = 1e-300 * f.signum();
         }
-        if (f_next < 0.0) != (f < 0.0) {
-            neg += 1;
-        }
+        neg += usize::from((f_next < 0.0) != (f < 0.0));
         f_prev = f;
         f = f_next;
         d = d_of(i + 1);
         let phi = d * f;
         sum += w[i + 1] * phi * phi;
         sum2 += wr2[i + 1] * phi * phi;
-        if STORE {
-            st[i + 1] = phi;
-        }
+        st[i + 1] = phi;
         if f.abs() > RESCALE {
             let s = 1.0 / RESCALE;
             f *= s;
             f_prev *= s;
             sum *= s * s;
             sum2 *= s * s;
-            if STORE {
-                st[..=i + 1].iter_mut().for_each(|x| *x *= s);
-            }
+            st[..=i + 1].iter_mut().for_each(|x| *x *= s);
         }
     }
     let d_m = d;
     let out_ratio = f_prev / f;
     let sum_out = sum / (f * f);
     let sum2_out = sum2 / (f * f);
-    if STORE {
-        let s = 1.0 / f;
-        st[..=m].iter_mut().for_each(|x| *x *= s);
-    }
+    let s = 1.0 / f;
+    st[..=m].iter_mut().for_each(|x| *x *= s);
     // Inward.
     let (mut g_next, mut g) = (0.0f64, 1.0f64);
     let mut d = d_of(end - 1);
     let mut sum = w[end - 1] * d * d;
     let mut sum2 = wr2[end - 1] * d * d;
-    if STORE {
-        st[end - 1] = d;
-    }
+    st[end - 1] = d;
     for i in (m + 1..end).rev() {
         let u = 12.0 * d - 10.0;
         let mut g_prev = u * g - g_next;
         if g_prev == 0.0 {
             g_prev = 1e-300 * g.signum();
         }
-        if (g_prev < 0.0) != (g < 0.0) {
-            neg += 1;
-        }
+        neg += usize::from((g_prev < 0.0) != (g < 0.0));
         g_next = g;
         g = g_prev;
         if i - 1 > m {
@@ -609,9 +711,7 @@ fn sweep_impl<const STORE: bool>(grid: &Grid, e: f64, end: usize, st: &mut Vec<f
             let phi = d * g;
             sum += w[i - 1] * phi * phi;
             sum2 += wr2[i - 1] * phi * phi;
-            if STORE {
-                st[i - 1] = phi;
-            }
+            st[i - 1] = phi;
         }
         if g.abs() > RESCALE {
             let s = 1.0 / RESCALE;
@@ -619,16 +719,12 @@ fn sweep_impl<const STORE: bool>(grid: &Grid, e: f64, end: usize, st: &mut Vec<f
             g_next *= s;
             sum *= s * s;
             sum2 *= s * s;
-            if STORE {
-                st[(i - 1).max(m + 1)..end].iter_mut().for_each(|x| *x *= s);
-            }
+            st[(i - 1).max(m + 1)..end].iter_mut().for_each(|x| *x *= s);
         }
     }
     let in_ratio = g_next / g;
-    if STORE {
-        let s = 1.0 / g;
-        st[m + 1..end].iter_mut().for_each(|x| *x *= s);
-    }
+    let s = 1.0 / g;
+    st[m + 1..end].iter_mut().for_each(|x| *x *= s);
     let gamma = (12.0 * d_m - 10.0) - out_ratio - in_ratio;
     let norm = sum_out + sum / (g * g);
     Sweep {
@@ -641,6 +737,12 @@ fn sweep_impl<const STORE: bool>(grid: &Grid, e: f64, end: usize, st: &mut Vec<f
 }
 
 /// Converge level v on `grid` inside the bracket from `guess`, integrating to index `end`.
+///
+/// Returns the energy and ⟨1/r²⟩ of the converged state. With `energy_only`, a Newton (Cooley)
+/// step is accepted without a confirming sweep once the predicted error after it, K Δ² (K from
+/// successive steps, at first 2/`gap` with `gap` the expected level spacing), is below `tol`;
+/// ⟨1/r²⟩ is then that of the last trial function and not accurate.
+#[allow(clippy::too_many_arguments)]
 fn converge(
     grid: &Grid,
     v: usize,
@@ -648,6 +750,8 @@ fn converge(
     bracket: (f64, f64),
     end: usize,
     tol: f64,
+    gap: f64,
+    energy_only: bool,
 ) -> Option<(f64, f64)> {
     let (mut lo, mut hi) = bracket;
     let mut e = if guess > lo && guess < hi {
@@ -655,6 +759,8 @@ fn converge(
     } else {
         0.5 * (lo + hi)
     };
+    let mut k_newton = 2.0 / gap.abs().max(1e-300);
+    let mut last_step: Option<f64> = None;
     for _ in 0..400 {
         let sw = sweep(grid, e, end);
         if sw.count > v {
@@ -667,14 +773,21 @@ fn converge(
             // Cooley–Newton: ΔE = γ_m / (12 Σ w_i φ_i²) with φ_m = 1.
             let delta = sw.gamma / (12.0 * sw.norm);
             if delta.is_finite() {
-                if delta.abs() < tol {
+                if let Some(d_prev) = last_step
+                    && d_prev > 0.0
+                {
+                    k_newton = k_newton.max(delta.abs() / (d_prev * d_prev));
+                }
+                if delta.abs() < tol || (energy_only && k_newton * delta * delta < tol) {
                     return Some((e + delta, sw.inv_r2));
                 }
+                last_step = Some(delta.abs());
                 next = e + delta;
             }
         }
         if !(next > lo && next < hi) {
             next = 0.5 * (lo + hi);
+            last_step = None;
         }
         if hi - lo < tol {
             let mid = 0.5 * (lo + hi);
@@ -920,15 +1033,30 @@ struct Found {
     inv_r2: f64,
 }
 
+/// How far to integrate and how tightly to converge.
+#[derive(Clone, Copy)]
+struct Accuracy {
+    /// Decay exponent beyond the outer turning point.
+    decay: f64,
+    /// Iteration tolerance on the energy, cm⁻¹.
+    tol: f64,
+    /// ⟨1/r²⟩ not needed (allows accepting a final Newton step unchecked).
+    energy_only: bool,
+}
+
 /// Levels `wanted` (ascending v) on one grid: energies (raw scale) and integration ends.
 fn solve_grid(
     grid: &Grid,
     plan: &Plan,
     wanted: &[usize],
     guesses: Option<&[f64]>,
-    decay: f64,
-    tol: f64,
+    acc: Accuracy,
 ) -> Result<Vec<Found>> {
+    let Accuracy {
+        decay,
+        tol,
+        energy_only,
+    } = acc;
     let n = grid.len();
     let mut out: Vec<Found> = Vec::with_capacity(wanted.len());
     let vmin_j = grid.vj[grid.imin];
@@ -970,7 +1098,16 @@ fn solve_grid(
         let mut end = grid.tail_end(probe, decay).max(grid.imin + 4).min(n - 1);
         let mut found = None;
         for attempt in 0..2 {
-            if let Some((e, inv_r2)) = converge(grid, v, guess, (lo, plan.ceiling), end, tol) {
+            if let Some((e, inv_r2)) = converge(
+                grid,
+                v,
+                guess,
+                (lo, plan.ceiling),
+                end,
+                tol,
+                spacing,
+                energy_only,
+            ) {
                 let ok = e < plan.ceiling && (end == n - 1 || grid.decays_by(e, end, 0.9 * decay));
                 if ok {
                     found = Some((e, inv_r2));
@@ -1015,9 +1152,10 @@ fn count_levels(grid: &Grid, ceiling: f64) -> usize {
 }
 
 /// Error estimate of the Richardson value from energies on three successive grids (steps 4h,
-/// 2h, h): |E_h − E_2h|/15 when the differences shrink as h⁴ (ratio 10…25), otherwise — the
-/// grids are not yet in the asymptotic regime — the full |E_h − E_2h|. Differences below
-/// `noise` (iteration accuracy) are taken as they are.
+/// 2h, h): the larger of |E_h − E_2h|/15 (the error of E_h in the asymptotic h⁴ regime) and the
+/// change of the Richardson value itself, |R(2h, h) − R(4h, 2h)|, which stays small only once
+/// the grids are in the asymptotic regime. Without the coarsest energy the full |E_h − E_2h|.
+/// Differences below `noise` (iteration accuracy) are taken as they are.
 fn richardson_error(older: Option<f64>, prev: f64, last: f64, noise: f64) -> f64 {
     let d = prev - last;
     let base = d.abs() / 15.0;
@@ -1025,8 +1163,12 @@ fn richardson_error(older: Option<f64>, prev: f64, last: f64, noise: f64) -> f64
         return base;
     }
     match older {
-        Some(o) if (10.0..=25.0).contains(&((o - prev) / d)) => base,
-        _ => d.abs(),
+        Some(o) => {
+            let r_new = (16.0 * last - prev) / 15.0;
+            let r_old = (16.0 * prev - o) / 15.0;
+            base.max((r_new - r_old).abs())
+        }
+        None => d.abs(),
     }
 }
 
@@ -1072,20 +1214,22 @@ pub fn solve_levels(
         n_levels = n_levels.min(mx);
     }
     let all: Vec<usize> = (0..n_levels).collect();
-    let first = solve_grid(&grids[1], &plan, &all, None, decay, tol_e)?;
+    let acc = Accuracy {
+        decay,
+        tol: tol_e,
+        energy_only: false,
+    };
+    let first = solve_grid(&grids[1], &plan, &all, None, acc)?;
     // Other grids start from the first grid's energies, moved by the previous level's shift.
     let follow = |grid: usize, strict: bool| -> Result<Vec<Option<Found>>> {
         let mut out = Vec::with_capacity(n_levels);
         let mut shift = 0.0;
         for (v, c) in first.iter().enumerate() {
-            match solve_grid(
-                &grids[grid],
-                &plan,
-                &[v],
-                Some(&[c.e + shift]),
-                decay,
-                tol_e,
-            ) {
+            let acc = Accuracy {
+                energy_only: !strict,
+                ..acc
+            };
+            match solve_grid(&grids[grid], &plan, &[v], Some(&[c.e + shift]), acc) {
                 Ok(f) => {
                     shift = f[0].e - c.e;
                     out.push(Some(f[0]));
@@ -1126,7 +1270,7 @@ pub fn solve_levels(
             .iter()
             .map(|&v| (16.0 * last[v].e - prev[v].e) / 15.0)
             .collect();
-        let found = solve_grid(&grids[g + 1], &plan, &todo, Some(&guesses), decay, tol_e)?;
+        let found = solve_grid(&grids[g + 1], &plan, &todo, Some(&guesses), acc)?;
         for (k, &v) in todo.iter().enumerate() {
             older[v] = Some(prev[v].e);
             prev[v] = last[v];
@@ -1297,7 +1441,12 @@ pub(crate) fn common_grid_states(
         }
         let all: Vec<usize> = (0..n).collect();
         let tol = (1e-4 * s.tolerance_cm1).max(1e-13 * (plan.ceiling - plan.v_min));
-        let found = solve_grid(&grid, plan, &all, None, s.tail_decay, tol)?;
+        let acc = Accuracy {
+            decay: s.tail_decay,
+            tol,
+            energy_only: false,
+        };
+        let found = solve_grid(&grid, plan, &all, None, acc)?;
         let mut psi = Vec::with_capacity(n);
         let mut buf = Vec::new();
         for f in &found {
