@@ -614,3 +614,51 @@ mod properties {
         }
     }
 }
+
+/// SOURCE: harmonic-oscillator ground state ψ₀(r) = (γ/π)^{¼} e^{−γ(r−r_e)²/2}, γ = μωe/(2C_u)
+/// (closed form; domain.md §2.3 for k). The sampled wavefunction must match it to 1e-5 of its
+/// peak; the turning points of level v must be r_e ± √(2E/k) (classical, closed form) to 1e-9 Å;
+/// and a curve given as data (`PotentialSpec`, JSON) must solve to the same levels.
+#[test]
+fn wavefunctions_and_turning_points_of_the_harmonic_oscillator() {
+    let (we, mu, re) = (1000.0, 10.0, 3.0);
+    let h = Harmonic::from_we(we, mu, re).unwrap();
+    let s = SolverSettings {
+        energy_max_cm1: Some(5000.0),
+        tolerance_cm1: 1e-6,
+        ..Default::default()
+    };
+    let set = solve_levels(&h, mu, &s).unwrap();
+    let gamma = mu * we / (2.0 * 16.857_629_168_087_77);
+    let psi0 = set.levels[0].wavefunction.as_ref().unwrap();
+    let peak = (gamma / std::f64::consts::PI).powf(0.25);
+    for (r, p) in psi0.r_angstrom.iter().zip(&psi0.psi) {
+        let exact = peak * (-gamma * (r - re) * (r - re) / 2.0).exp();
+        assert!((p - exact).abs() < 1e-5 * peak, "r={r}: {p} vs {exact}");
+    }
+    for l in &set.levels {
+        let half = (2.0 * l.energy_cm1 / h.k_cm1_per_angstrom2).sqrt();
+        assert!((l.r_inner_angstrom - (re - half)).abs() < 1e-9, "v={}", l.v);
+        assert!((l.r_outer_angstrom - (re + half)).abs() < 1e-9, "v={}", l.v);
+        // B_v of the harmonic oscillator: ⟨1/r²⟩ is close to 1/r_e² (SOURCE: expansion
+        // ⟨1/r²⟩ = r_e⁻²(1 + 3⟨x²⟩/r_e² + …), ⟨x²⟩ = (v+½)/γ; closed form). Tolerance 1e-3
+        // relative (next term).
+        let x2 = (l.v as f64 + 0.5) / gamma;
+        let b_approx = 16.857_629_168_087_77 / (mu * re * re) * (1.0 + 3.0 * x2 / (re * re));
+        assert!(
+            ((l.b_v_cm1 - b_approx) / b_approx).abs() < 1e-3,
+            "v={}",
+            l.v
+        );
+    }
+    let spec: rungs_core::potential::PotentialSpec = serde_json::from_str(
+        r#"{"kind": "harmonic", "k_cm1_per_angstrom2": 296601.6128, "re_angstrom": 3.0}"#,
+    )
+    .unwrap();
+    let built = spec.build().unwrap();
+    let again = solve_levels(built.as_ref(), mu, &s).unwrap();
+    // k = μ ωe²/(2 C_u) = 296 601.6128 cm⁻¹/Å² to 10 digits: the levels agree to 1e-6 relative.
+    for (a, b) in set.levels.iter().zip(&again.levels) {
+        assert!(((a.energy_cm1 - b.energy_cm1) / a.energy_cm1).abs() < 1e-6);
+    }
+}

@@ -70,3 +70,59 @@ pub trait Potential {
     /// without bound (harmonic) or its long-range behaviour is not known.
     fn asymptote_cm1(&self) -> Option<f64>;
 }
+
+/// A potential curve described as plain data (for session documents and the page): build it
+/// with [`PotentialSpec::build`].
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", tag = "kind")]
+pub enum PotentialSpec {
+    /// ½ k (r − r_e)².
+    Harmonic(Harmonic),
+    /// D_e [1 − e^{−a(r−r_e)}]².
+    Morse(Morse),
+    /// D_e/(n − m) [m (r_e/r)ⁿ − n (r_e/r)^m].
+    LennardJones(LennardJones),
+    /// A table (r Å, V cm⁻¹) interpolated by a cubic spline, walls extended.
+    Pointwise {
+        /// The points.
+        points: Vec<(f64, f64)>,
+        /// Outer-wall extension.
+        #[serde(default)]
+        outer: OuterWall,
+    },
+    /// First-order RKR from G(v) and B(v), up to `v_max`.
+    Rkr {
+        /// G(v), B(v) and μ.
+        input: RkrInput,
+        /// Highest v of the turning points.
+        v_max: f64,
+        /// Outer-wall extension.
+        #[serde(default)]
+        outer: OuterWall,
+    },
+}
+
+impl PotentialSpec {
+    /// Validate the parameters and build the curve.
+    pub fn build(&self) -> crate::Result<Box<dyn Potential>> {
+        Ok(match self {
+            PotentialSpec::Harmonic(h) => {
+                Box::new(Harmonic::new(h.k_cm1_per_angstrom2, h.re_angstrom)?)
+            }
+            PotentialSpec::Morse(m) => {
+                Box::new(Morse::new(m.de_cm1, m.a_per_angstrom, m.re_angstrom)?)
+            }
+            PotentialSpec::LennardJones(l) => {
+                Box::new(LennardJones::new(l.de_cm1, l.re_angstrom, l.n, l.m)?)
+            }
+            PotentialSpec::Pointwise { points, outer } => {
+                Box::new(PointwisePotential::new(points, *outer)?)
+            }
+            PotentialSpec::Rkr {
+                input,
+                v_max,
+                outer,
+            } => Box::new(RkrPotential::new(input, *v_max, *outer)?),
+        })
+    }
+}
