@@ -11,7 +11,7 @@ use rungs_core::data::Level;
 use rungs_core::potential::{
     Alignment, FcfSettings, Harmonic, LennardJones, Morse, OuterWall, PointwisePotential,
     Potential, RkrInput, RkrPotential, RotationInput, SolverSettings, Verdict, compare_levels,
-    franck_condon_factors, parse_two_column, rkr_turning_points, solve_levels,
+    franck_condon_factors, parse_two_column, rkr_loop_check, rkr_turning_points, solve_levels,
 };
 use serde_json::Value;
 
@@ -353,6 +353,19 @@ fn rkr_potential_returns_its_levels() {
         .collect();
     let check = compare_levels(&observed, &set.levels, Alignment::FitOffset).unwrap();
     assert_eq!(check.verdict, Verdict::Consistent, "{}", check.summary);
+    // The one-call loop gives the same verdict and levels.
+    let (set2, check2) = rkr_loop_check(
+        &observed,
+        &input,
+        12.0,
+        OuterWall::Automatic,
+        Alignment::FitOffset,
+    )
+    .unwrap();
+    assert_eq!(check2.verdict, Verdict::Consistent, "{}", check2.summary);
+    for (a, b) in set.levels.iter().zip(&set2.levels) {
+        assert!((a.energy_cm1 - b.energy_cm1).abs() < 1e-3);
+    }
 }
 
 /// SOURCE: closed form: for a rotating Morse oscillator E(J) − E(0) = B_v J(J+1) − D_v

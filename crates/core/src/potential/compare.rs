@@ -284,3 +284,29 @@ pub fn compare_levels(
         summary,
     })
 }
+
+/// Closing the loop in one call: build the RKR curve of `input` up to `v_max` (outer wall
+/// `outer`), solve its levels (J = 0, default solver settings, as many levels as observed v
+/// need) and compare them with the observations. Returns the levels and the check.
+pub fn rkr_loop_check(
+    observed: &[Level],
+    input: &super::rkr::RkrInput,
+    v_max: f64,
+    outer: super::walls::OuterWall,
+    alignment: Alignment,
+) -> Result<(super::solver::LevelSet, LoopCheck)> {
+    use super::Potential;
+    use super::rkr::RkrPotential;
+    use super::solver::{SolverSettings, solve_levels};
+    let pot = RkrPotential::new(input, v_max, outer)?;
+    let top_v = observed.iter().map(|l| l.v).max().unwrap_or(0);
+    let top_g = pot.curve.points.last().map_or(0.0, |p| p.energy_cm1);
+    let settings = SolverSettings {
+        max_levels: Some(top_v as usize + 1),
+        energy_max_cm1: pot.asymptote_cm1().is_none().then_some(1.5 * top_g + 1.0),
+        ..Default::default()
+    };
+    let set = solve_levels(&pot, input.mu_u, &settings)?;
+    let check = compare_levels(observed, &set.levels, alignment)?;
+    Ok((set, check))
+}

@@ -3,15 +3,19 @@
 //! This module closes the loop from fitted constants back to levels:
 //!
 //! - [`analytic`]: test forms with known answers — [`Harmonic`], [`Morse`], [`LennardJones`];
-//! - [`rkr`]: first-order RKR turning points from G(v) and B(v) (Klein f and g integrals), and
-//!   the [`RkrPotential`] built on them, with both walls extended;
+//! - [`rkr`]: first-order RKR turning points from G(v) and B(v) (Klein f and g integrals), the
+//!   [`RkrPotential`] built on them with both walls extended, and
+//!   [`potential_from_constants`] (RKR + Morse turning points from ωe, ωexe, Be, αe, … with the
+//!   RKR curve solved back);
 //! - [`pointwise`]: a potential given point by point (e.g. from a quantum-chemistry
 //!   calculation), interpolated by a cubic spline and extended beyond its ends;
 //! - [`solver`]: all bound levels of any [`Potential`] for a given J (energies, B_v, turning
-//!   points, wavefunctions), by Numerov shooting with Cooley correction, node counting and
-//!   Richardson extrapolation in the step, with an error estimate per level;
-//! - [`compare`]: observed − calculated levels and B_v, χ² and a plain-language verdict;
-//! - [`fcf`]: Franck–Condon factors between the levels of two potentials.
+//!   points, wavefunctions), by Numerov on a wavelength-mapped grid with Sturm counting, Cooley
+//!   correction and Richardson extrapolation in the step, with an error estimate per level;
+//! - [`compare`]: observed − calculated levels and B_v, χ² and a plain-language verdict
+//!   ([`rkr_loop_check`] does constants → RKR → levels → verdict in one call);
+//! - [`fcf`]: Franck–Condon factors between the levels of two potentials;
+//! - [`PotentialSpec`]: any of these curves as plain (serde) data, built with `build()`.
 //!
 //! Units throughout: r in Å, V and energies in cm⁻¹, μ in u. The kinetic operator is
 //! −(C_u/μ) d²/dr² with C_u = [`C_U_CM1_U_A2`](crate::constants::C_U_CM1_U_A2).
@@ -27,7 +31,7 @@ pub mod spline;
 pub mod walls;
 
 pub use analytic::{Harmonic, LennardJones, Morse};
-pub use compare::{Alignment, LoopCheck, LoopRow, Verdict, compare_levels};
+pub use compare::{Alignment, LoopCheck, LoopRow, Verdict, compare_levels, rkr_loop_check};
 pub use fcf::{FcfSettings, FcfTable, franck_condon_factors};
 pub use pointwise::{EnergyUnit, LengthUnit, PointwisePotential, parse_two_column};
 pub use rkr::{
