@@ -371,12 +371,19 @@ impl Grid {
         map.local(problem, r)
     }
 
-    /// Step h (in wavelengths) from r_a until r ≥ r_b.
-    fn new(problem: &Problem<'_>, map: &Map, r_a: f64, r_b: f64, h: f64) -> Result<Self> {
+    /// Step h (in wavelengths) from r_a until r ≥ r_b, RK4 with at least `substeps` per step.
+    fn new(
+        problem: &Problem<'_>,
+        map: &Map,
+        r_a: f64,
+        r_b: f64,
+        h: f64,
+        substeps: usize,
+    ) -> Result<Self> {
         let mut r = vec![r_a];
         let mut x = r_a;
         while x < r_b {
-            x = map.advance(problem, x, h, 2);
+            x = map.advance(problem, x, h, substeps);
             if !x.is_finite() || r.len() > 4_000_000 {
                 return Err(Error::numerical(
                     "level solver",
@@ -387,7 +394,7 @@ impl Grid {
         }
         if r.len() < 8 {
             // Too short to be useful: subdivide.
-            return Self::new(problem, map, r_a, r_b, h / 4.0);
+            return Self::new(problem, map, r_a, r_b, h / 4.0, substeps);
         }
         let mut vj = Vec::with_capacity(r.len());
         let mut jac = Vec::with_capacity(r.len());
@@ -1192,18 +1199,18 @@ pub fn solve_levels(
     let tol = settings.tolerance_cm1;
     let tol_e = (1e-4 * tol).max(1e-13 * (plan.ceiling - plan.v_min));
     let decay = settings.tail_decay;
-    // grids[0]: every other point of grids[1] (for the asymptotic check); grids[1]: the first
-    // grid; grids[2]: half its step; further halvings are appended.
-    let g0 = Grid::new(&problem, &plan.map, plan.r_a, plan.r_b, plan.hx)?;
-    let g1 = g0.refine(&problem, &plan.map)?;
-    let gc = g0.coarsen(&problem)?;
-    let mut grids = vec![gc, g0, g1];
-    let c0 = count_levels(&grids[1], plan.ceiling);
-    let c1 = count_levels(&grids[2], plan.ceiling);
-    let mut n_levels = c0.min(c1);
-    if c0 != c1 {
+    // grids[1]: the first grid; grids[2]: half its step (built first, the others are its even
+    // points); grids[0]: twice the step (for the asymptotic check). Halvings are appended.
+    let g2 = Grid::new(&problem, &plan.map, plan.r_a, plan.r_b, 0.5 * plan.hx, 1)?;
+    let g1 = g2.coarsen(&problem)?;
+    let g0 = g1.coarsen(&problem)?;
+    let mut grids = vec![g0, g1, g2];
+    let c1 = count_levels(&grids[1], plan.ceiling);
+    let c2 = count_levels(&grids[2], plan.ceiling);
+    let mut n_levels = c1.min(c2);
+    if c1 != c2 {
         plan.notes.push(format!(
-            "the two finest grids disagree on the number of bound levels ({c0} vs {c1}); the \
+            "the two finest grids disagree on the number of bound levels ({c1} vs {c2}); the \
              top one is kept only if both find it"
         ));
     }
@@ -1216,19 +1223,18 @@ pub fn solve_levels(
         tol: tol_e,
         energy_only: false,
     };
-    let first = solve_grid(&grids[1], &plan, &all, None, acc)?;
-    // Other grids start from the first grid's energies, moved by the previous level's shift.
-    let follow = |grid: usize, strict: bool| -> Result<Vec<Option<Found>>> {
-        let mut out = Vec::with_capacity(n_levels);
+    // Level v on `grid`, starting from `base[v]` moved by the previous level's shift.
+    let follow = |grid: usize, base: &[f64], strict: bool| -> Result<Vec<Option<Found>>> {
+        let mut out = Vec::with_capacity(base.len());
         let mut shift = 0.0;
-        for (v, c) in first.iter().enumerate() {
+        for (v, &b) in base.iter().enumerate() {
             let acc = Accuracy {
                 energy_only: !strict,
                 ..acc
             };
-            match solve_grid(&grids[grid], &plan, &[v], Some(&[c.e + shift]), acc) {
+            match solve_grid(&grids[grid], &plan, &[v], Some(&[b + shift]), acc) {
                 Ok(f) => {
-                    shift = f[0].e - c.e;
+                    shift = f[0].e - b;
                     out.push(Some(f[0]));
                 }
                 Err(e) if strict => return Err(e),
@@ -1237,8 +1243,29 @@ pub fn solve_levels(
         }
         Ok(out)
     };
-    let coarse = follow(0, false)?;
-    let fine = follow(2, true)?;
+    // The search (bracketing from extrapolated guesses) runs on the cheap coarsest grid when it
+    // holds all the levels; the finer grids then start from its energies.
+    let energy_only = Accuracy {
+        energy_only: true,
+        ..acc
+    };
+    let search = (count_levels(&grids[0], plan.ceiling) >= n_levels)
+        .then(|| solve_grid(&grids[0], &plan, &all, None, energy_only).ok())
+        .flatten();
+    let (coarse, first) = match search {
+        Some(c) => {
+            let base: Vec<f64> = c.iter().map(|f| f.e).collect();
+            let first: Vec<Found> = follow(1, &base, true)?.into_iter().flatten().collect();
+            (c.into_iter().map(Some).collect::<Vec<_>>(), first)
+        }
+        None => {
+            let first = solve_grid(&grids[1], &plan, &all, None, acc)?;
+            let base: Vec<f64> = first.iter().map(|f| f.e).collect();
+            (follow(0, &base, false)?, first)
+        }
+    };
+    let base: Vec<f64> = first.iter().map(|f| f.e).collect();
+    let fine = follow(2, &base, true)?;
     let mut psi = Vec::new();
     let solved = |f: &Found, grid: usize| Solved {
         e: f.e,
@@ -1431,7 +1458,7 @@ pub(crate) fn common_grid_states(
             r1: 0.0,
             coef: 1.0,
         };
-        let grid = Grid::new(problem, &map, r_a, r_b, h)?;
+        let grid = Grid::new(problem, &map, r_a, r_b, h, 1)?;
         let mut n = count_levels(&grid, plan.ceiling);
         if let Some(mx) = s.max_levels {
             n = n.min(mx);
