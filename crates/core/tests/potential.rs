@@ -609,6 +609,27 @@ mod properties {
             }
         }
 
+        /// Core never panics on user data (brief): any set of constants either gives RKR and
+        /// Morse turning points and solved levels, or an error.
+        #[test]
+        fn arbitrary_constants_never_panic(
+            we in -100.0f64..4000.0,
+            wexe in -20.0f64..200.0,
+            weye in -2.0f64..2.0,
+            be in -0.5f64..20.0,
+            alphae in -0.5f64..0.5,
+            mu in -1.0f64..100.0,
+            v_max in 0u32..60,
+        ) {
+            let c = rungs_core::potential::DiatomicConstants {
+                we_cm1: we, wexe_cm1: wexe, weye_cm1: weye, be_cm1: be, alphae_cm1: alphae,
+                ..Default::default()
+            };
+            let _ = rungs_core::potential::potential_from_constants(
+                &c, mu, v_max, OuterWall::Automatic,
+            );
+        }
+
         /// Core never panics on user data (brief): any table of points either builds a
         /// potential whose levels are solved, or is refused with an error.
         #[test]
