@@ -12,7 +12,7 @@ use rungs_core::potential::{
 };
 use serde_json::json;
 
-use crate::Format;
+use crate::potential::Format;
 
 /// Distance unit of the file's first column.
 #[derive(Debug, Clone, Copy, ValueEnum)]

@@ -7,8 +7,11 @@
 
 use std::process::ExitCode;
 
-use clap::{Parser, Subcommand, ValueEnum};
+use clap::{Parser, Subcommand};
 
+mod analyze;
+mod check;
+mod input;
 mod levels;
 mod potential;
 
@@ -24,33 +27,16 @@ struct Cli {
 enum Command {
     /// Print the version of the numerics and the constants set.
     Version,
+    /// Show how a table is read (kind, column roles, units, rows used and excluded) and
+    /// whether it is usable; exit 0 when usable, 2 when not.
+    Check(check::CheckArgs),
+    /// Analyse levels or spacings: vibrational constants, order selection, and the
+    /// dissociation limit by every method, with statistical and model uncertainty.
+    Analyze(analyze::AnalyzeArgs),
     /// RKR and Morse turning points from ωe, ωexe, Be, αe, … (and the RKR curve solved back).
     Potential(potential::PotentialArgs),
     /// Bound levels of a pointwise potential curve (r, V table).
     Levels(levels::LevelsArgs),
-}
-
-/// Output format of a report.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
-pub enum Format {
-    /// Aligned plain text.
-    Text,
-    /// JSON.
-    Json,
-}
-
-/// Print a command's output, or its error with exit code 2.
-fn finish(result: Result<String, String>) -> ExitCode {
-    match result {
-        Ok(text) => {
-            print!("{text}");
-            ExitCode::SUCCESS
-        }
-        Err(message) => {
-            eprintln!("rungs: {message}");
-            ExitCode::from(2)
-        }
-    }
 }
 
 fn main() -> ExitCode {
@@ -64,7 +50,9 @@ fn main() -> ExitCode {
             );
             ExitCode::SUCCESS
         }
-        Command::Potential(args) => finish(potential::run(&args)),
-        Command::Levels(args) => finish(levels::run(&args)),
+        Command::Check(args) => check::run(&args),
+        Command::Analyze(args) => analyze::run(&args),
+        Command::Potential(args) => potential::finish(potential::run(&args)),
+        Command::Levels(args) => potential::finish(levels::run(&args)),
     }
 }

@@ -3,11 +3,34 @@
 //! Glue only: the arguments become a core [`DiatomicConstants`]; core builds the RKR and Morse
 //! curves and solves the RKR curve back (closing the loop); this module prints the result.
 
-use clap::Args;
+use std::process::ExitCode;
+
+use clap::{Args, ValueEnum};
 use rungs_core::potential::{DiatomicConstants, OuterWall, potential_from_constants};
 use serde_json::json;
 
-use crate::Format;
+/// Output format of `potential` and `levels`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Format {
+    /// Aligned plain text.
+    Text,
+    /// JSON.
+    Json,
+}
+
+/// Print a command's output, or its error with exit code 2.
+pub fn finish(result: Result<String, String>) -> ExitCode {
+    match result {
+        Ok(text) => {
+            print!("{text}");
+            ExitCode::SUCCESS
+        }
+        Err(message) => {
+            eprintln!("rungs: {message}");
+            ExitCode::from(2)
+        }
+    }
+}
 
 /// Arguments of `rungs potential`.
 #[derive(Debug, Args)]

@@ -29,6 +29,28 @@ pub enum Error {
         /// What went wrong.
         message: String,
     },
+    /// A whole column cannot be used as it stands (unknown unit, missing air/vacuum, …).
+    #[error("column {index} ('{name}'): {message}")]
+    Column {
+        /// 1-based column number.
+        index: usize,
+        /// Column name as written in the header (or its role when there is no header).
+        name: String,
+        /// What went wrong and how to fix it.
+        message: String,
+    },
+    /// The input as a whole cannot be used (empty, no recognisable columns, …).
+    #[error("{message}")]
+    Input {
+        /// What went wrong and how to fix it.
+        message: String,
+    },
+    /// A saved document (session) cannot be read.
+    #[error("document: {message}")]
+    Document {
+        /// What went wrong.
+        message: String,
+    },
     /// Too few usable data points for the requested analysis.
     #[error("too few usable data points for {what}: {have} usable, at least {need} needed")]
     TooFewPoints {

@@ -11,14 +11,33 @@
 //! - core knows nothing of JavaScript, the DOM or the terminal;
 //! - energies are in cm⁻¹, distances in Å and masses in u inside core; names carry the unit.
 
+pub mod analysis;
 pub mod constants;
 pub mod data;
+pub mod dunham;
 pub mod error;
+pub mod examples;
+pub mod extrapolate;
+pub mod format;
+pub mod intake;
 pub mod lsq;
+pub mod masses;
+mod masses_table;
+pub mod montecarlo;
+pub mod morse;
+pub mod pipeline;
 pub mod potential;
+pub mod recommend;
+pub mod report;
+pub mod session;
 pub mod settings;
+pub mod spacings;
+pub mod units;
 
+pub use analysis::{analyze_levels, analyze_spacings};
 pub use error::{Error, Result};
+pub use pipeline::analyze_session;
+pub use report::{Report, render_text};
 
 /// Version of the Rungs numerics, stamped into every report and exported document.
 pub const VERSION: &str = env!("CARGO_PKG_VERSION");

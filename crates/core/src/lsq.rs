@@ -109,6 +109,7 @@ impl LinearFit {
 const RANK_TOL: f64 = 1e-13;
 
 /// Fit y ≈ Xβ by weighted least squares.
+#[allow(clippy::needless_range_loop)] // index loops mirror the matrix algebra
 ///
 /// `design` is n × p with n ≥ p. Fails (never panics) on mismatched sizes, non-finite input,
 /// non-positive σ, a covariance that is not positive definite, or a rank-deficient design

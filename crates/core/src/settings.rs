@@ -10,6 +10,21 @@ use serde::{Deserialize, Serialize};
 pub const DEFAULT_MC_SAMPLES: u32 = 2000;
 /// Default Monte Carlo seed (recorded in every report).
 pub const DEFAULT_SEED: u64 = 20_261_201;
+/// Default highest polynomial order tried for G(v).
+pub const DEFAULT_MAX_ORDER: u32 = 6;
+
+/// When the statistical uncertainties are scaled by √χ²_ν of the selected G(v) fit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[serde(rename_all = "kebab-case")]
+pub enum SigmaScaling {
+    /// Trust the data's σ as given (unscaled covariance).
+    Never,
+    /// Scale by √χ²_ν only when χ²_ν > 1 (the data scatter more than their σ): never shrinks σ.
+    #[default]
+    WhenAboveOne,
+    /// Always scale by √χ²_ν.
+    Always,
+}
 
 /// How the reduced mass of the molecule is given.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -39,12 +54,52 @@ pub struct AnalysisSettings {
     pub seed: u64,
     /// Long-range exponent n of the near-dissociation (LeRoy–Bernstein) model.
     pub lb_n: f64,
-    /// Number of top levels used by the near-dissociation fit; `None` chooses automatically.
+    /// Number of top levels used by the near-dissociation fit; `None` chooses automatically
+    /// (max(4, ⌈N/3⌉) of the N levels).
     pub lb_top_levels: Option<u32>,
     /// Force this polynomial order for G(v); `None` uses the recommended order.
     pub order: Option<u32>,
     /// The molecule's mass, when known (needed for C_n, Morse a, potentials).
     pub mass: Option<MassSpec>,
+    /// Highest polynomial order of G(v) tried in the order-selection table (the data may cap it lower).
+    #[serde(default = "default_max_order")]
+    pub max_order: u32,
+    /// Also fit the near-dissociation model with the exponent n free (needs ≥ 5 top levels).
+    #[serde(default = "default_true")]
+    pub lb_fit_n_free: bool,
+    /// Theoretical C_n (cm⁻¹ Åⁿ) for a near-dissociation fit with C_n held fixed; needs μ.
+    #[serde(default)]
+    pub lb_cn_cm1_an: Option<f64>,
+    /// When statistical uncertainties are scaled by √χ²_ν.
+    #[serde(default)]
+    pub sigma_scaling: SigmaScaling,
+    /// A curved (order ≥ 3) polynomial extrapolation is refused when its limit lies more than this
+    /// multiple of the observed v-range above the highest observed level.
+    #[serde(default = "default_curved_max_extrapolation")]
+    pub curved_max_extrapolation: f64,
+    /// Fraction of the well the levels must reach (by the near-dissociation estimate) for the
+    /// near-dissociation regime: LeRoy–Bernstein preferred, polynomial extrapolations set aside.
+    #[serde(default = "default_near_dissociation_coverage")]
+    pub near_dissociation_coverage: f64,
+    /// |studentized residual| above which a point is flagged as a possible outlier.
+    #[serde(default = "default_outlier_threshold")]
+    pub outlier_threshold: f64,
+}
+
+fn default_max_order() -> u32 {
+    DEFAULT_MAX_ORDER
+}
+fn default_true() -> bool {
+    true
+}
+fn default_curved_max_extrapolation() -> f64 {
+    1.0
+}
+fn default_near_dissociation_coverage() -> f64 {
+    0.9
+}
+fn default_outlier_threshold() -> f64 {
+    3.0
 }
 
 impl Default for AnalysisSettings {
@@ -56,6 +111,13 @@ impl Default for AnalysisSettings {
             lb_top_levels: None,
             order: None,
             mass: None,
+            max_order: DEFAULT_MAX_ORDER,
+            lb_fit_n_free: true,
+            lb_cn_cm1_an: None,
+            sigma_scaling: SigmaScaling::WhenAboveOne,
+            curved_max_extrapolation: default_curved_max_extrapolation(),
+            near_dissociation_coverage: default_near_dissociation_coverage(),
+            outlier_threshold: default_outlier_threshold(),
         }
     }
 }

@@ -1,0 +1,784 @@
+//! The analysis report: one serialisable document shared by the CLI (text and JSON) and the page.
+//!
+//! Field names are part of a versioned format ([`REPORT_FORMAT`], [`REPORT_FORMAT_VERSION`]),
+//! documented field by field in `crates/core/REPORT_FORMAT.md`. Numbers a method cannot give
+//! are `null`, never NaN, and every such place carries a `reason`. [`render_text`] turns a
+//! report into a plain-text page for people.
+
+use serde::{Deserialize, Serialize};
+
+use crate::dunham::{DataKind, OrderSelection};
+use crate::extrapolate::lm::Termination;
+use crate::montecarlo::McResult;
+use crate::morse::MorseParams;
+use crate::recommend::Recommended;
+use crate::settings::{AnalysisSettings, SigmaScaling};
+
+/// Name of the document format.
+pub const REPORT_FORMAT: &str = "rungs-analysis";
+/// Version of the document format; bumped on any incompatible change of field names or meaning.
+pub const REPORT_FORMAT_VERSION: u32 = 1;
+
+/// A value with its standard uncertainty (null when not estimable).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ValueSigma {
+    /// Value.
+    pub value: f64,
+    /// One-standard-deviation uncertainty; null when not estimable.
+    pub sigma: Option<f64>,
+}
+
+impl ValueSigma {
+    /// Construct (a non-finite σ becomes null).
+    pub fn new(value: f64, sigma: Option<f64>) -> Self {
+        Self {
+            value,
+            sigma: sigma.filter(|s| s.is_finite()),
+        }
+    }
+}
+
+/// A fitted constant with its uncertainty in the three readings.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Constant {
+    /// Value, cm⁻¹.
+    pub value: f64,
+    /// σ used throughout the report (see `uncertainty`).
+    pub sigma: Option<f64>,
+    /// σ from the data's σ alone (null when no σ were given).
+    pub sigma_unscaled: Option<f64>,
+    /// σ scaled by √χ²_ν of the fit (null without degrees of freedom).
+    pub sigma_scaled: Option<f64>,
+}
+
+/// A Dunham coefficient Y_k0.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct DunhamCoefficient {
+    /// Name, e.g. `"Y10"`.
+    pub name: String,
+    /// Power k of (v + ½).
+    pub k: usize,
+    /// Value and σ, cm⁻¹.
+    #[serde(flatten)]
+    pub constant: Constant,
+}
+
+/// Vibrational constants from the selected fit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Constants {
+    /// Order of the fit they come from.
+    pub order: usize,
+    /// ωe = Y10.
+    pub we_cm1: Option<Constant>,
+    /// ωexe = −Y20.
+    pub wexe_cm1: Option<Constant>,
+    /// ωeye = Y30.
+    pub weye_cm1: Option<Constant>,
+    /// ωeze = Y40.
+    pub weze_cm1: Option<Constant>,
+    /// Every Y_k0, k = 1..order (higher orders Y50, Y60 … are only here).
+    pub dunham: Vec<DunhamCoefficient>,
+    /// Zero-point energy G(0) above the minimum of the polynomial (v = −½), cm⁻¹.
+    pub zero_point_cm1: ValueSigma,
+    /// Correlation matrix of the Y_k0 (row-major order × order).
+    pub correlation: Vec<Vec<f64>>,
+}
+
+/// Where the data's uncertainties came from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum SigmaSource {
+    /// Per-point σ given with the data.
+    Given,
+    /// A full covariance given with the data.
+    Covariance,
+    /// No σ given: unit weights, σ estimated from the scatter about the selected fit.
+    EstimatedFromScatter,
+}
+
+/// What was analysed.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct InputSummary {
+    /// Levels or spacings.
+    pub kind: DataKind,
+    /// Number of data points.
+    pub n_points: usize,
+    /// Lowest level involved.
+    pub v_min: f64,
+    /// Highest level involved.
+    pub v_max: f64,
+    /// Whether v = 0 is among the data (levels) or the lowest spacing starts at v = 0.
+    pub v0_observed: bool,
+    /// Reduced mass, u (when given).
+    pub mu_u: Option<f64>,
+    /// Source of the uncertainties.
+    pub sigma_source: SigmaSource,
+}
+
+/// How σ were obtained and scaled.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct UncertaintyInfo {
+    /// Scaling policy in force.
+    pub policy: SigmaScaling,
+    /// Factor multiplying every data σ for all propagated uncertainties (√ of the variance factor).
+    pub scale_factor: Option<f64>,
+    /// χ²_ν of the selected fit.
+    pub chi2_reduced: Option<f64>,
+    /// Whether statistical uncertainties could be estimated at all.
+    pub estimable: bool,
+    /// Plain explanation.
+    pub note: String,
+}
+
+/// A level used in the analysis.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LevelOut {
+    /// Vibrational quantum number.
+    pub v: u32,
+    /// Energy, cm⁻¹ (on the input's origin; rebuilt levels start at 0).
+    pub energy_cm1: f64,
+    /// σ as given (or propagated for rebuilt levels), cm⁻¹.
+    pub sigma_cm1: Option<f64>,
+    /// True when rebuilt from given spacings.
+    pub derived: bool,
+}
+
+/// A spacing ΔG_{v+½}.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SpacingOut {
+    /// Lower level v.
+    pub v_lower: u32,
+    /// Abscissa x = v + ½.
+    pub x: f64,
+    /// ΔG_{v+½}, cm⁻¹.
+    pub spacing_cm1: f64,
+    /// σ, cm⁻¹ (as used: including any scaling).
+    pub sigma_cm1: Option<f64>,
+    /// Correlation with the next spacing (v+1) when both exist.
+    pub correlation_with_next: Option<f64>,
+    /// True when derived from levels (false when given).
+    pub derived: bool,
+}
+
+/// A residual of the selected fit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ResidualOut {
+    /// Level v (levels) or lower level (spacings).
+    pub v: f64,
+    /// Observed − fitted, cm⁻¹.
+    pub residual_cm1: f64,
+    /// σ as used, cm⁻¹.
+    pub sigma_cm1: Option<f64>,
+    /// Externally studentized residual: whitened residual over √((1 − leverage)·variance
+    /// factor), the factor re-estimated without this point where it comes from the scatter.
+    pub studentized: Option<f64>,
+    /// |studentized| above the threshold.
+    pub outlier: bool,
+}
+
+/// Summary of the selected polynomial fit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FitSummary {
+    /// Order.
+    pub order: usize,
+    /// Whether the order was forced by the settings.
+    pub forced: bool,
+    /// Parameters.
+    pub n_params: usize,
+    /// Degrees of freedom.
+    pub dof: usize,
+    /// χ² (RSS in cm⁻² with unit weights).
+    pub chi2: f64,
+    /// χ²/dof.
+    pub chi2_reduced: Option<f64>,
+    /// Residuals.
+    pub residuals: Vec<ResidualOut>,
+    /// Outlier threshold on |studentized|.
+    pub outlier_threshold: f64,
+}
+
+/// Linear Birge–Sponer details.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct BsDetails {
+    /// A: value of the spacing line at x = 0, cm⁻¹ (order 2 only).
+    pub line_intercept_cm1: Option<ValueSigma>,
+    /// B: decrease of ΔG per quantum, cm⁻¹ (order 2 only).
+    pub line_slope_cm1: Option<ValueSigma>,
+    /// Zero crossing A/B (= v_D) of the line.
+    pub x_intercept: Option<f64>,
+    /// Area A²/(2B) under the line from x = 0 (= D0), cm⁻¹.
+    pub area_cm1: Option<f64>,
+    /// Where a refused curved extrapolation would have put v_D.
+    pub refused_root_v: Option<f64>,
+}
+
+/// Near-dissociation (LeRoy–Bernstein) details.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LbDetails {
+    /// Long-range exponent n (σ when fitted).
+    pub n: ValueSigma,
+    /// Whether n was fitted.
+    pub n_fitted: bool,
+    /// Whether X0 was fixed from a given C_n.
+    pub cn_fixed: bool,
+    /// Levels used in the fit.
+    pub levels_used: Vec<u32>,
+    /// Asymptote D on the data's energy scale, cm⁻¹.
+    pub d_cm1: Option<ValueSigma>,
+    /// X0, cm⁻¹.
+    pub x0_cm1: Option<ValueSigma>,
+    /// C_n, cm⁻¹ Åⁿ (needs μ).
+    pub cn_cm1_an: Option<ValueSigma>,
+    /// C_n, E_h a0ⁿ (needs μ).
+    pub cn_au: Option<ValueSigma>,
+    /// D − G(v_top): binding energy of the highest level (numbering-free), cm⁻¹.
+    pub top_binding_cm1: Option<ValueSigma>,
+    /// χ² of the fit (with the data covariance).
+    pub chi2: Option<f64>,
+    /// Degrees of freedom.
+    pub dof: Option<usize>,
+    /// Solver termination.
+    pub termination: Option<Termination>,
+    /// Solver iterations.
+    pub iterations: Option<usize>,
+}
+
+/// One estimate of the dissociation limit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Estimate {
+    /// Method: `observed-sum`, `birge-sponer-linear`, `birge-sponer-curved`, `leroy-bernstein`,
+    /// `leroy-bernstein-n-free`, `leroy-bernstein-alt-levels`, `leroy-bernstein-cn-fixed`.
+    pub method: String,
+    /// Human-readable label.
+    pub label: String,
+    /// Polynomial order (Birge–Sponer methods).
+    pub order: Option<usize>,
+    /// D0 from v = 0, cm⁻¹ (for observed-sum: the lower bound G(v_top) − G(0)).
+    pub d0_cm1: Option<f64>,
+    /// Statistical σ of D0 from the covariance, cm⁻¹.
+    pub d0_sigma_cm1: Option<f64>,
+    /// De = D0 + G(0), cm⁻¹.
+    pub de_cm1: Option<f64>,
+    /// σ of De, cm⁻¹.
+    pub de_sigma_cm1: Option<f64>,
+    /// v_D.
+    pub v_d: Option<f64>,
+    /// σ of v_D.
+    pub v_d_sigma: Option<f64>,
+    /// Bound levels ⌊v_D⌋ + 1.
+    pub n_bound: Option<u64>,
+    /// Fraction of D0 above the observed span.
+    pub extrapolated_fraction: Option<f64>,
+    /// What the number is, or why there is none.
+    pub reason: String,
+    /// Whether the estimate enters the recommendation and σ_model.
+    pub defensible: bool,
+    /// Why (not).
+    pub defensible_reason: String,
+    /// Monte Carlo distribution (null when not run).
+    pub monte_carlo: Option<McResult>,
+    /// Birge–Sponer details.
+    pub birge_sponer: Option<BsDetails>,
+    /// Near-dissociation details.
+    pub leroy_bernstein: Option<LbDetails>,
+}
+
+/// Monte Carlo settings as run.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct McInfo {
+    /// Whether it ran.
+    pub ran: bool,
+    /// Number of draws.
+    pub samples: u32,
+    /// Seed.
+    pub seed: u64,
+    /// Generator.
+    pub generator: String,
+    /// What was held fixed, or why it did not run.
+    pub note: String,
+}
+
+/// A point with an error bar.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PlotPoint {
+    /// Abscissa.
+    pub x: f64,
+    /// Ordinate.
+    pub y: f64,
+    /// Error bar (1σ), when known.
+    pub sigma: Option<f64>,
+}
+
+/// A sampled model curve.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Curve {
+    /// Method it belongs to.
+    pub method: String,
+    /// Legend text.
+    pub label: String,
+    /// (x, y) samples.
+    pub points: Vec<[f64; 2]>,
+    /// v_D of the method, when it has one.
+    pub v_d: Option<f64>,
+}
+
+/// The linearised near-dissociation plot: (ΔG)^{(n−2)/(n+2)} against x = v + ½.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Linearised {
+    /// Method whose line is drawn.
+    pub method: String,
+    /// n.
+    pub n: f64,
+    /// Exponent (n−2)/(n+2).
+    pub exponent: f64,
+    /// Data points (positive spacings only); σ propagated to first order.
+    pub points: Vec<PlotPoint>,
+    /// The model line (dG/dv)^{exponent} = slope·(v_D − x).
+    pub line: Vec<[f64; 2]>,
+}
+
+/// Everything the page needs to draw.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PlotData {
+    /// Spacings at x = v + ½ with σ.
+    pub spacings: Vec<PlotPoint>,
+    /// Model spacing curves ΔG(x) of each estimate with a model.
+    pub spacing_curves: Vec<Curve>,
+    /// Level data G(v) with σ.
+    pub levels: Vec<PlotPoint>,
+    /// Model level curves G(v).
+    pub level_curves: Vec<Curve>,
+    /// Residuals of the selected fit at v with σ.
+    pub residuals: Vec<PlotPoint>,
+    /// Linearised near-dissociation plot.
+    pub lb_linearised: Option<Linearised>,
+}
+
+/// The full analysis report.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Report {
+    /// Always [`REPORT_FORMAT`].
+    pub format: String,
+    /// [`REPORT_FORMAT_VERSION`].
+    pub format_version: u32,
+    /// `rungs-core` version that produced it.
+    pub software_version: String,
+    /// CODATA adjustment of the constants used.
+    pub codata_year: u32,
+    /// Plain statement that the results are model-dependent estimates.
+    pub statement: String,
+    /// Conventions the numbers follow.
+    pub conventions: Vec<String>,
+    /// Assumptions the numbers rest on.
+    pub assumptions: Vec<String>,
+    /// What was analysed.
+    pub input: InputSummary,
+    /// Settings in force.
+    pub settings: AnalysisSettings,
+    /// How uncertainties were obtained.
+    pub uncertainty: UncertaintyInfo,
+    /// Levels used.
+    pub levels: Vec<LevelOut>,
+    /// Spacings (derived or given).
+    pub spacings: Vec<SpacingOut>,
+    /// Order-selection table.
+    pub order_selection: OrderSelection,
+    /// Selected fit.
+    pub fit: FitSummary,
+    /// Vibrational constants.
+    pub constants: Constants,
+    /// Every estimate.
+    pub estimates: Vec<Estimate>,
+    /// The recommended value.
+    pub recommended: Recommended,
+    /// Morse parameters from ωe, ωexe.
+    pub morse: Option<MorseParams>,
+    /// Why there are no Morse parameters.
+    pub morse_note: Option<String>,
+    /// Monte Carlo settings.
+    pub monte_carlo: McInfo,
+    /// Warnings.
+    pub warnings: Vec<String>,
+    /// Plot series.
+    pub plot: PlotData,
+    /// Every input row that was not used, with its reason (from [`crate::pipeline`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub rows: Option<RowsSummary>,
+    /// The session that produced this report: input text, reading choices, settings. Present
+    /// when the analysis started from a session, so the document can be re-imported.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub session: Option<crate::session::Session>,
+}
+
+/// What happened to the rows of the input table.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RowsSummary {
+    /// Data rows in the input.
+    pub total: usize,
+    /// Rows the analysis used.
+    pub used: usize,
+    /// Rows not used, each with its row number (input line) and reason.
+    pub excluded: Vec<ExcludedRow>,
+}
+
+/// One row that was not used.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ExcludedRow {
+    /// Row number: line of the input.
+    pub row: usize,
+    /// `"input"` when the row could not be used as read, `"user"` when the user excluded it.
+    pub by: String,
+    /// Why.
+    pub reason: String,
+}
+
+impl Report {
+    /// Serialise as pretty JSON.
+    pub fn to_json(&self) -> crate::Result<String> {
+        serde_json::to_string_pretty(self).map_err(|e| {
+            crate::Error::numerical("report", format!("JSON serialisation failed: {e}"))
+        })
+    }
+}
+
+fn num(x: Option<f64>, prec: usize) -> String {
+    match x {
+        Some(v) => format!("{v:.prec$}"),
+        None => "—".into(),
+    }
+}
+
+fn pm(value: Option<f64>, sigma: Option<f64>, prec: usize) -> String {
+    match (value, sigma) {
+        (Some(v), Some(s)) => format!("{v:.prec$} ± {s:.prec$}"),
+        (Some(v), None) => format!("{v:.prec$}"),
+        _ => "—".into(),
+    }
+}
+
+fn gsig(x: f64) -> String {
+    if x == 0.0 {
+        "0".into()
+    } else if x.abs() >= 1e-3 && x.abs() < 1e6 {
+        format!("{x:.6}")
+    } else {
+        format!("{x:.6e}")
+    }
+}
+
+/// Render a report as readable plain text.
+pub fn render_text(r: &Report) -> String {
+    use std::fmt::Write;
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "Rungs vibrational analysis  (format {} v{}, rungs-core {}, CODATA {})",
+        r.format, r.format_version, r.software_version, r.codata_year
+    );
+    let _ = writeln!(s, "{}", "=".repeat(78));
+    let _ = writeln!(s, "{}", r.statement);
+    let _ = writeln!(s);
+    let kind = match r.input.kind {
+        DataKind::Levels => "levels",
+        DataKind::Spacings => "spacings",
+    };
+    let _ = writeln!(
+        s,
+        "Data: {} {kind}, v = {} … {}{}; σ: {}",
+        r.input.n_points,
+        r.input.v_min,
+        r.input.v_max,
+        r.input
+            .mu_u
+            .map(|m| format!(", μ = {m} u"))
+            .unwrap_or_default(),
+        match r.input.sigma_source {
+            SigmaSource::Given => "given per point",
+            SigmaSource::Covariance => "full covariance given",
+            SigmaSource::EstimatedFromScatter => "not given (estimated from the scatter)",
+        }
+    );
+    let _ = writeln!(s, "Uncertainty: {}", r.uncertainty.note);
+    let _ = writeln!(s);
+
+    let _ = writeln!(s, "Order selection for G(v) = Σ Y_k (v+½)^k");
+    let _ = writeln!(
+        s,
+        "  {:>5} {:>4} {:>12} {:>9} {:>12} {:>12} {:>9} {:>8} {:>8}",
+        "order", "dof", "chi2", "chi2/dof", "AICc", "BIC", "F", "p(F)", "|Y|/σ"
+    );
+    for row in &r.order_selection.rows {
+        let _ = writeln!(
+            s,
+            "  {:>5} {:>4} {:>12} {:>9} {:>12} {:>12} {:>9} {:>8} {:>8}{}",
+            row.order,
+            row.dof,
+            gsig(row.chi2),
+            num(row.chi2_reduced, 3),
+            num(row.aicc, 2),
+            num(row.bic, 2),
+            num(row.f_statistic, 2),
+            num(row.f_p_value, 4),
+            num(row.top_significance, 1),
+            if row.order == r.fit.order {
+                "  ← used"
+            } else {
+                ""
+            }
+        );
+    }
+    let _ = writeln!(
+        s,
+        "  Recommended order {}: {}",
+        r.order_selection.recommended_order, r.order_selection.reason
+    );
+    if r.fit.forced {
+        let _ = writeln!(s, "  Order {} forced by the settings.", r.fit.order);
+    }
+    let _ = writeln!(s);
+
+    let _ = writeln!(
+        s,
+        "Vibrational constants (order-{} fit), cm⁻¹",
+        r.constants.order
+    );
+    let names = [
+        ("ωe", &r.constants.we_cm1),
+        ("ωexe", &r.constants.wexe_cm1),
+        ("ωeye", &r.constants.weye_cm1),
+        ("ωeze", &r.constants.weze_cm1),
+    ];
+    for (n, c) in names {
+        if let Some(c) = c {
+            let _ = writeln!(s, "  {:<6} {}", n, pm(Some(c.value), c.sigma, 6));
+        }
+    }
+    for d in r.constants.dunham.iter().filter(|d| d.k > 4) {
+        let _ = writeln!(
+            s,
+            "  {:<6} {}",
+            d.name,
+            pm(Some(d.constant.value), d.constant.sigma, 9)
+        );
+    }
+    let _ = writeln!(
+        s,
+        "  G(0)   {}  (zero-point energy above the polynomial minimum)",
+        pm(
+            Some(r.constants.zero_point_cm1.value),
+            r.constants.zero_point_cm1.sigma,
+            4
+        )
+    );
+    let _ = writeln!(s);
+
+    let _ = writeln!(
+        s,
+        "Residuals of the order-{} fit (χ²/dof = {}, dof = {})",
+        r.fit.order,
+        num(r.fit.chi2_reduced, 3),
+        r.fit.dof
+    );
+    let _ = writeln!(
+        s,
+        "  {:>6} {:>12} {:>10} {:>8}",
+        "v", "obs−calc", "σ", "stud."
+    );
+    for x in &r.fit.residuals {
+        let _ = writeln!(
+            s,
+            "  {:>6} {:>12.5} {:>10} {:>8}{}",
+            x.v,
+            x.residual_cm1,
+            num(x.sigma_cm1, 5),
+            num(x.studentized, 2),
+            if x.outlier { "  OUTLIER?" } else { "" }
+        );
+    }
+    let _ = writeln!(s);
+
+    let _ = writeln!(
+        s,
+        "Dissociation limit by each method (cm⁻¹; σ from the data covariance; MC = Monte Carlo median [16 %, 84 %])"
+    );
+    for e in &r.estimates {
+        let _ = writeln!(
+            s,
+            "  {} [{}]{}",
+            e.label,
+            e.method,
+            if e.defensible {
+                ""
+            } else {
+                "  (not in the recommendation)"
+            }
+        );
+        match e.d0_cm1 {
+            Some(_) => {
+                let _ = writeln!(
+                    s,
+                    "      D0 = {}   De = {}",
+                    pm(e.d0_cm1, e.d0_sigma_cm1, 3),
+                    pm(e.de_cm1, e.de_sigma_cm1, 3)
+                );
+                if e.v_d.is_some() {
+                    let _ = writeln!(
+                        s,
+                        "      v_D = {}   bound levels = {}   extrapolated fraction = {}",
+                        pm(e.v_d, e.v_d_sigma, 4),
+                        e.n_bound.map(|n| n.to_string()).unwrap_or("—".into()),
+                        e.extrapolated_fraction
+                            .map(|f| format!("{:.2} %", 100.0 * f))
+                            .unwrap_or("—".into())
+                    );
+                }
+                if let Some(mc) = &e.monte_carlo {
+                    let _ = writeln!(
+                        s,
+                        "      MC D0: {} [{}, {}]  ({} finite, {} without limit, {} failed)",
+                        num(mc.d0.median, 3),
+                        num(mc.d0.p16, 3),
+                        mc.d0
+                            .p84
+                            .map(|x| format!("{x:.3}"))
+                            .unwrap_or("unbounded".into()),
+                        mc.d0.finite,
+                        mc.d0.no_limit,
+                        mc.d0.failed
+                    );
+                }
+            }
+            None => {
+                let _ = writeln!(s, "      no limit");
+            }
+        }
+        if let Some(lb) = &e.leroy_bernstein {
+            let levels: Vec<String> = lb.levels_used.iter().map(|v| v.to_string()).collect();
+            let _ = writeln!(
+                s,
+                "      n = {}{}  levels v = {}",
+                pm(Some(lb.n.value), lb.n.sigma, 3),
+                if lb.n_fitted { " (fitted)" } else { " (fixed)" },
+                levels.join(",")
+            );
+            if let Some(d) = &lb.d_cm1 {
+                let _ = writeln!(
+                    s,
+                    "      D (asymptote, data scale) = {}   X0 = {}",
+                    pm(Some(d.value), d.sigma, 4),
+                    lb.x0_cm1
+                        .as_ref()
+                        .map(|x| pm(Some(x.value), x.sigma, 6))
+                        .unwrap_or("—".into())
+                );
+            }
+            if let Some(c) = &lb.cn_cm1_an {
+                let _ = writeln!(
+                    s,
+                    "      C_n = {} cm⁻¹Åⁿ = {} E_h a0ⁿ",
+                    pm(Some(c.value), c.sigma, 1),
+                    lb.cn_au
+                        .as_ref()
+                        .map(|x| pm(Some(x.value), x.sigma, 3))
+                        .unwrap_or("—".into())
+                );
+            }
+            if let Some(b) = &lb.top_binding_cm1 {
+                let _ = writeln!(
+                    s,
+                    "      binding energy of the highest level = {}",
+                    pm(Some(b.value), b.sigma, 4)
+                );
+            }
+        }
+        if let Some(bs) = &e.birge_sponer
+            && let (Some(a), Some(b)) = (&bs.line_intercept_cm1, &bs.line_slope_cm1)
+        {
+            let _ = writeln!(
+                s,
+                "      line ΔG = A − B·x: A = {}, B = {}",
+                pm(Some(a.value), a.sigma, 4),
+                pm(Some(b.value), b.sigma, 5)
+            );
+        }
+        let _ = writeln!(s, "      {}", e.reason);
+        let _ = writeln!(s, "      {}", e.defensible_reason);
+    }
+    let _ = writeln!(s);
+
+    let rec = &r.recommended;
+    let _ = writeln!(s, "Recommended");
+    match (&rec.method, rec.d0_cm1) {
+        (Some(m), Some(d0)) => {
+            let _ = writeln!(
+                s,
+                "  D0 = {d0:.3} ± {} (stat, {}) ± {} (model) cm⁻¹   [{m}]",
+                num(rec.sigma_stat_cm1, 3),
+                rec.sigma_stat_source.as_deref().unwrap_or("—"),
+                num(rec.sigma_model_cm1, 3)
+            );
+            if let Some(de) = rec.de_cm1 {
+                let _ = writeln!(s, "  De = D0 + G(0) = {de:.3} cm⁻¹");
+            }
+            let _ = writeln!(s, "  model spread over: {}", rec.spread_methods.join(", "));
+        }
+        _ => {
+            let _ = writeln!(s, "  none");
+        }
+    }
+    let _ = writeln!(s, "  Reason: {}", rec.reason);
+    let _ = writeln!(s);
+
+    if let Some(m) = &r.morse {
+        let _ = writeln!(s, "Morse parameters ({})", m.source);
+        let _ = writeln!(
+            s,
+            "  De = {} cm⁻¹, D0 = {} cm⁻¹, v_D = {:.4}, bound levels = {}",
+            pm(Some(m.de_cm1.value), m.de_cm1.sigma, 3),
+            pm(Some(m.d0_cm1.value), m.d0_cm1.sigma, 3),
+            m.v_d,
+            m.n_bound
+        );
+        if let Some(a) = &m.a_per_angstrom {
+            let _ = writeln!(s, "  a = {} Å⁻¹", pm(Some(a.value), a.sigma, 6));
+        }
+        if let Some(k) = &m.force_constant_n_per_m {
+            let _ = writeln!(s, "  k_e = {} N/m", pm(Some(k.value), k.sigma, 4));
+        }
+        if let Some(re) = &m.re_angstrom {
+            let _ = writeln!(s, "  re = {} Å (from Be)", pm(Some(re.value), re.sigma, 6));
+        }
+        let _ = writeln!(s);
+    } else if let Some(n) = &r.morse_note {
+        let _ = writeln!(s, "Morse parameters: {n}");
+        let _ = writeln!(s);
+    }
+
+    let _ = writeln!(
+        s,
+        "Monte Carlo: {} (seed {}, {} samples, {})",
+        if r.monte_carlo.ran { "ran" } else { "not run" },
+        r.monte_carlo.seed,
+        r.monte_carlo.samples,
+        r.monte_carlo.generator
+    );
+    let _ = writeln!(s, "  {}", r.monte_carlo.note);
+    let _ = writeln!(s);
+
+    if !r.warnings.is_empty() {
+        let _ = writeln!(s, "Warnings");
+        for w in &r.warnings {
+            let _ = writeln!(s, "  ! {w}");
+        }
+        let _ = writeln!(s);
+    }
+    let _ = writeln!(s, "Conventions");
+    for c in &r.conventions {
+        let _ = writeln!(s, "  - {c}");
+    }
+    let _ = writeln!(s, "Assumptions");
+    for a in &r.assumptions {
+        let _ = writeln!(s, "  - {a}");
+    }
+    s
+}
