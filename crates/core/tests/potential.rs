@@ -731,3 +731,35 @@ fn pointwise_table_with_long_range_tail() {
         }
     }
 }
+
+/// SOURCE: tests/analysis/lennard_jones.json ← scripts/oracles/analysis.py (another SYNTHETIC
+/// LJ(12,6) well, D_e 800, r_e 3.6 Å, μ 16 u; its own dense sinc-DVR on r ≤ 60 Å): the 23
+/// levels there, relative to v = 0, to 1e-4 cm⁻¹, and G(0) to 1e-4. That DVR box cannot hold a
+/// 24th level bound by ~5e-5 cm⁻¹ with its outer turning point near 64 Å; the WKB/LeRoy–Bernstein
+/// v_D ≈ 23.2 of the same fixture implies it (levels v ≤ ⌈v_D⌉ − 1 = 23), and the solver finds
+/// it, bound by less than 1e-3 cm⁻¹.
+#[test]
+fn lennard_jones_matches_the_analysis_fixture() {
+    let path = format!(
+        "{}/../../tests/analysis/lennard_jones.json",
+        env!("CARGO_MANIFEST_DIR")
+    );
+    let data: Value = serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap();
+    let lj = LennardJones::twelve_six(f(&data, "de_cm1"), f(&data, "re_angstrom")).unwrap();
+    let s = SolverSettings {
+        tolerance_cm1: 1e-5,
+        wavefunction_points: 0,
+        ..Default::default()
+    };
+    let set = solve_levels(&lj, f(&data, "mu_u"), &s).unwrap();
+    let refs = data["levels"].as_array().unwrap();
+    assert_eq!(refs.len(), 23);
+    assert_eq!(set.levels.len(), 24);
+    assert!(set.levels[23].binding_cm1.unwrap() < 1e-3);
+    let e0 = set.levels[0].energy_cm1;
+    assert!((e0 - f(&data["true"], "g0_cm1")).abs() < 1e-4, "{e0}");
+    for (l, r) in set.levels.iter().zip(refs) {
+        let de = (l.energy_cm1 - e0) - f(r, "energy_cm1");
+        assert!(de.abs() < 1e-4, "v={}: {de:.2e}", l.v);
+    }
+}
