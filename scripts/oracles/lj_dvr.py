@@ -63,28 +63,36 @@ def main():
         {"v": v, "energy_cm1": float(w[v] + DE), "binding_cm1": float(-w[v]), "b_v_cm1": float(b[v])}
         for v in range(len(w))
     ]
-    # Coarsest dense DVR that matches the reference to 0.01 cm^-1 on every level but the last.
-    best = None
-    for dx in (0.09, 0.08, 0.07, 0.06, 0.05, 0.045, 0.04, 0.035, 0.03):
-        for r_hi in (20.0, 25.0, 30.0, 35.0, 40.0, 50.0, 60.0):
-            _, wt, _ = dvr(2.9, r_hi, dx)
-            if len(wt) >= len(w) - 1:
-                err = np.max(np.abs(wt[: len(w) - 1] - w[: len(w) - 1]))
-                if err <= 0.01:
-                    npts = int(round((r_hi - 2.9) / dx)) + 1
-                    if best is None or npts < best["points"]:
-                        best = {"dx_angstrom": dx, "r_max_angstrom": r_hi, "points": npts,
-                                "max_error_cm1": float(err)}
-                    break
-    timings = {}
-    for vectors in (False, True):
-        ts = []
-        for _ in range(30):
-            t0 = time.perf_counter()
-            dvr(2.9, best["r_max_angstrom"], best["dx_angstrom"], vectors=vectors)
-            ts.append(time.perf_counter() - t0)
-        key = "with_vectors" if vectors else "eigenvalues_only"
-        timings[key] = {"median": float(np.median(ts)), "min": float(np.min(ts))}
+    # Coarsest dense DVRs that match the reference on every level but the last: to 0.01 cm^-1
+    # (the benchmark target) and to 2e-5 cm^-1 (what the Rust solver actually delivers at the
+    # 0.01 setting), each timed (median and min of 30 runs) with and without eigenvectors.
+    def coarsest(target):
+        best = None
+        for dx in (0.09, 0.08, 0.07, 0.06, 0.055, 0.05, 0.045, 0.04, 0.035, 0.03):
+            for r_hi in (20.0, 25.0, 30.0, 35.0, 40.0, 50.0, 60.0):
+                _, wt, _ = dvr(2.9, r_hi, dx)
+                if len(wt) >= len(w) - 1:
+                    err = np.max(np.abs(wt[: len(w) - 1] - w[: len(w) - 1]))
+                    if err <= target:
+                        npts = int(round((r_hi - 2.9) / dx)) + 1
+                        if best is None or npts < best["points"]:
+                            best = {"dx_angstrom": dx, "r_max_angstrom": r_hi, "points": npts,
+                                    "max_error_cm1": float(err)}
+                        break
+        timings = {}
+        for vectors in (False, True):
+            ts = []
+            for _ in range(30):
+                t0 = time.perf_counter()
+                dvr(2.9, best["r_max_angstrom"], best["dx_angstrom"], vectors=vectors)
+                ts.append(time.perf_counter() - t0)
+            key = "with_vectors" if vectors else "eigenvalues_only"
+            timings[key] = {"median": float(np.median(ts)), "min": float(np.min(ts))}
+        best["seconds_of_30_runs"] = timings
+        return best
+
+    best = coarsest(0.01)
+    best_tight = coarsest(2e-5)
     out = {
         "SOURCE": "scripts/oracles/lj_dvr.py: dense sinc-DVR (Colbert-Miller 1992) with scipy.linalg.eigh; "
                   "SYNTHETIC LJ(12,6) parameters; C_u from scipy.constants (CODATA 2022)",
@@ -95,7 +103,7 @@ def main():
         "reference_convergence_last_cm1": float(conv[n - 1]),
         "levels": levels,
         "dense_dvr_at_0p01_cm1": best,
-        "dense_dvr_seconds_of_30_runs": timings,
+        "dense_dvr_at_2e-5_cm1": best_tight,
         "timing_environment": {
             "python": platform.python_version(), "numpy": np.__version__, "scipy": scipy.__version__,
             "machine": platform.machine(), "cpus": os.cpu_count(),
@@ -109,7 +117,7 @@ def main():
         f.write("\n")
     print(f"{len(levels)} levels; last binding {levels[-1]['binding_cm1']:.4f} cm^-1; "
           f"convergence {out['reference_convergence_max_abs_cm1_all_but_last']:.2e}; "
-          f"dense DVR at 0.01: {best}; timings {timings}")
+          f"dense DVR at 0.01: {best}; at 2e-5: {best_tight}")
 
 
 if __name__ == "__main__":
