@@ -72,7 +72,8 @@ pub struct SolverSettings {
     pub max_levels: Option<usize>,
     /// Target accuracy of every level energy, cm⁻¹.
     pub tolerance_cm1: f64,
-    /// Grid points per shortest local de Broglie wavelength on the first (coarsest) grid.
+    /// Grid points per shortest local de Broglie wavelength on the first grid (the coarser of
+    /// the Richardson pair).
     pub points_per_wavelength: f64,
     /// Maximum number of step halvings after the first Richardson pair.
     pub max_refinements: u32,
