@@ -12,6 +12,8 @@ use clap::{Parser, Subcommand};
 mod analyze;
 mod check;
 mod input;
+mod levels;
+mod potential;
 
 /// Vibrational analysis of diatomic molecules: constants, numbering, dissociation limits.
 #[derive(Debug, Parser)]
@@ -31,6 +33,10 @@ enum Command {
     /// Analyse levels or spacings: vibrational constants, order selection, and the
     /// dissociation limit by every method, with statistical and model uncertainty.
     Analyze(analyze::AnalyzeArgs),
+    /// RKR and Morse turning points from ωe, ωexe, Be, αe, … (and the RKR curve solved back).
+    Potential(potential::PotentialArgs),
+    /// Bound levels of a pointwise potential curve (r, V table).
+    Levels(levels::LevelsArgs),
 }
 
 fn main() -> ExitCode {
@@ -46,5 +52,7 @@ fn main() -> ExitCode {
         }
         Command::Check(args) => check::run(&args),
         Command::Analyze(args) => analyze::run(&args),
+        Command::Potential(args) => potential::finish(potential::run(&args)),
+        Command::Levels(args) => potential::finish(levels::run(&args)),
     }
 }

@@ -26,6 +26,7 @@ mod masses_table;
 pub mod montecarlo;
 pub mod morse;
 pub mod pipeline;
+pub mod potential;
 pub mod recommend;
 pub mod report;
 pub mod session;
