@@ -35,7 +35,7 @@ pub mod units;
 pub use analysis::{analyze_levels, analyze_spacings};
 pub use bands::{BandReport, analyze_bands, render_band_text};
 pub use error::{Error, Result};
-pub use pipeline::analyze_session;
+pub use pipeline::{Analysis, analyze_session};
 pub use report::{Report, render_text};
 
 /// Version of the Rungs numerics, stamped into every report and exported document.
