@@ -145,7 +145,44 @@ fn tag_name(t: &Option<String>) -> String {
         .unwrap_or("(untagged)".into())
 }
 
+/// Most bands one analysis takes (the fits are dense; far larger lists would stall the page).
+pub const MAX_BANDS: usize = 5000;
+/// Most distinct levels (v′ and v″ together) in one isotopologue's term-value fit.
+pub const MAX_LEVELS: usize = 300;
+
 fn validate(bands: &[Band]) -> Result<()> {
+    if bands.len() > MAX_BANDS {
+        return Err(Error::Input {
+            message: format!(
+                "{} bands: a band analysis takes at most {MAX_BANDS}",
+                bands.len()
+            ),
+        });
+    }
+    let mut levels: Vec<(Option<&str>, bool, u32)> = bands
+        .iter()
+        .flat_map(|b| {
+            let t = b.isotopologue.as_deref();
+            [(t, true, b.v_upper), (t, false, b.v_lower)]
+        })
+        .collect();
+    levels.sort();
+    levels.dedup();
+    let mut per_tag: Vec<(Option<&str>, usize)> = Vec::new();
+    for (t, _, _) in &levels {
+        match per_tag.iter_mut().find(|x| x.0 == *t) {
+            Some(x) => x.1 += 1,
+            None => per_tag.push((*t, 1)),
+        }
+    }
+    if let Some((t, n)) = per_tag.iter().find(|x| x.1 > MAX_LEVELS) {
+        return Err(Error::Input {
+            message: format!(
+                "isotopologue {}: {n} distinct levels in the bands; a band analysis takes at most {MAX_LEVELS}",
+                tag_name(&t.map(str::to_string))
+            ),
+        });
+    }
     if bands.len() < crate::intake::MIN_BANDS {
         return Err(Error::TooFewPoints {
             what: "a band analysis".into(),
@@ -1189,5 +1226,78 @@ fn band_plot(groups: &[Group], g: &GlobalFitOut) -> BandPlot {
     BandPlot {
         residuals_by_upper: by_u,
         residuals_by_lower: by_l,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn band(vu: u32, vl: u32, x: f64, s: Option<f64>, tag: Option<&str>) -> Band {
+        Band {
+            v_upper: vu,
+            v_lower: vl,
+            position_cm1: x,
+            sigma_cm1: s,
+            isotopologue: tag.map(str::to_string),
+        }
+    }
+
+    /// Refusals name what is wrong (our design rule: core returns errors, never panics).
+    #[test]
+    fn bad_band_lists_are_refused_with_reasons() {
+        let s = AnalysisSettings {
+            mc_samples: 0,
+            ..Default::default()
+        };
+        let run = |b: &[Band]| {
+            analyze_bands(b, BandPositions::Origins, None, &s)
+                .expect_err("refused")
+                .to_string()
+        };
+        let ok = [
+            band(0, 0, 100.0, Some(0.1), None),
+            band(1, 0, 190.0, Some(0.1), None),
+            band(2, 0, 275.0, Some(0.1), None),
+        ];
+        let mut dup = ok.to_vec();
+        dup.push(band(1, 0, 191.0, Some(0.1), None));
+        assert!(run(&dup).contains("more than once"));
+        let mut mixed = ok.to_vec();
+        mixed.push(band(3, 0, 355.0, None, None));
+        assert!(run(&mixed).contains("σ for all bands or for none"));
+        let mut nan = ok.to_vec();
+        nan[1].position_cm1 = f64::NAN;
+        assert!(run(&nan).contains("not a finite number"));
+        assert!(run(&ok[..2]).contains("at least 3"));
+        let many: Vec<Band> = (0..MAX_BANDS as u32 + 1)
+            .map(|i| band(i % 1000, i / 1000, 1.0, None, None))
+            .collect();
+        assert!(run(&many).contains("at most"));
+        let wide: Vec<Band> = (0..400)
+            .map(|i| band(i, 0, f64::from(i), None, None))
+            .collect();
+        assert!(run(&wide).contains("distinct levels"));
+        let mut bad_ref = s.clone();
+        bad_ref.bands.reference = Some("nope".into());
+        let e = analyze_bands(&ok, BandPositions::Origins, None, &bad_ref)
+            .expect_err("no such reference")
+            .to_string();
+        assert!(e.contains("bands.reference"), "{e}");
+        let mut heads = s.clone();
+        heads.bands.rotation = Some(crate::settings::BandRotation {
+            upper: crate::settings::StateRotation {
+                be_cm1: 1.0,
+                alpha_e_cm1: 0.0,
+            },
+            lower: crate::settings::StateRotation {
+                be_cm1: 1.0,
+                alpha_e_cm1: 0.0,
+            },
+        });
+        let e = analyze_bands(&ok, BandPositions::Heads, None, &heads)
+            .expect_err("B′ = B″ has no head")
+            .to_string();
+        assert!(e.contains("no band head"), "{e}");
     }
 }
