@@ -874,3 +874,100 @@ fn demo_band_list_runs_end_to_end() {
         3.0 * r.te_cm1.sigma.expect("σ"),
     );
 }
+
+/// SOURCE: closed form. For an upper state with G′(x) = ωe x + c x² (x = v + ½, c > 0: spacings
+/// widening upwards), renumbering by k puts the lowest slope of the downward extrapolation at
+/// dG/dx = ωe − 2ck, so the zero-point test (G′ rising from v = −½ to the lowest observed level)
+/// passes exactly for k < ωe/(2c) (domain.md §1.3). Here ωe = 20, c = 5: offsets 0 and 1 pass,
+/// 2 and 3 fail.
+#[test]
+fn zero_point_test_rules_out_offsets_that_turn_g_over() {
+    let (we, c) = (20.0, 5.0);
+    let g_up = |v: f64| we * (v + 0.5) + c * (v + 0.5).powi(2);
+    let g_lo = |v: f64| 900.0 * (v + 0.5) - 5.0 * (v + 0.5).powi(2);
+    let mut bands = Vec::new();
+    for vu in 0..7u32 {
+        for vl in 0..3u32 {
+            bands.push(Band {
+                v_upper: vu,
+                v_lower: vl,
+                position_cm1: 15000.0 + g_up(f64::from(vu)) - g_lo(f64::from(vl)),
+                sigma_cm1: Some(0.01),
+                isotopologue: None,
+            });
+        }
+    }
+    let r = analyze_bands(
+        &bands,
+        BandPositions::Origins,
+        None,
+        &settings(Some((2, 2)), SigmaScaling::WhenAboveOne),
+    )
+    .expect("analysis");
+    for o in r.numbering.offsets.iter().filter(|o| o.possible) {
+        let expect = f64::from(o.offset) < we / (2.0 * c);
+        assert_eq!(o.zero_point_ok, Some(expect), "offset {}", o.offset);
+    }
+}
+
+mod property {
+    use super::*;
+    use proptest::prelude::*;
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(24))]
+        /// SOURCE: closed-form Morse terms (domain.md §2.1). For any invented two-state system
+        /// and any pattern of gaps that keeps at least three levels per state, exact bands give
+        /// back ωe, ωexe of both states, T00 and Te (tolerance 1e-6 relative), whatever the
+        /// order in which the bands are listed, and shifting every band by a constant moves T00
+        /// and Te by that constant only.
+        #[test]
+        fn exact_morse_bands_give_back_their_constants(
+            weu in 100.0f64..2000.0, xu in 0.002f64..0.02,
+            wel in 100.0f64..3000.0, xl in 0.002f64..0.02,
+            te in 5000.0f64..60000.0,
+            gaps in prop::collection::vec(any::<bool>(), 40),
+            shift in -500.0f64..500.0,
+            rotate in 0usize..40,
+        ) {
+            let (wexeu, wexel) = (weu * xu, wel * xl);
+            let g = |we: f64, wexe: f64, v: f64| we * (v + 0.5) - wexe * (v + 0.5).powi(2);
+            let mut bands = Vec::new();
+            for vu in 0..8u32 {
+                for vl in 0..5u32 {
+                    let k = (vu * 5 + vl) as usize;
+                    // Keep the diagonal-ish cells so every level is present.
+                    if gaps[k] && vu != vl && vu != vl + 3 {
+                        continue;
+                    }
+                    bands.push(Band {
+                        v_upper: vu,
+                        v_lower: vl,
+                        position_cm1: te + g(weu, wexeu, f64::from(vu)) - g(wel, wexel, f64::from(vl)),
+                        sigma_cm1: Some(0.05),
+                        isotopologue: None,
+                    });
+                }
+            }
+            let n = bands.len();
+            bands.rotate_left(rotate % n);
+            let s = settings(Some((2, 2)), SigmaScaling::WhenAboveOne);
+            let r = analyze_bands(&bands, BandPositions::Origins, None, &s).expect("analysis");
+            let gf = &r.global_fit;
+            let rel = |a: f64, b: f64| (a - b).abs() <= 1e-6 * b.abs().max(1.0);
+            prop_assert!(rel(gf.upper.as_ref().unwrap().we_cm1.as_ref().unwrap().value, weu));
+            prop_assert!(rel(gf.upper.as_ref().unwrap().wexe_cm1.as_ref().unwrap().value, wexeu));
+            prop_assert!(rel(gf.lower.as_ref().unwrap().we_cm1.as_ref().unwrap().value, wel));
+            prop_assert!(rel(gf.lower.as_ref().unwrap().wexe_cm1.as_ref().unwrap().value, wexel));
+            prop_assert!(rel(r.te_cm1.value, te));
+            let t00 = te + g(weu, wexeu, 0.0) - g(wel, wexel, 0.0);
+            prop_assert!(rel(r.t00_cm1.value, t00));
+            for b in bands.iter_mut() {
+                b.position_cm1 += shift;
+            }
+            let r2 = analyze_bands(&bands, BandPositions::Origins, None, &s).expect("shifted");
+            prop_assert!((r2.t00_cm1.value - r.t00_cm1.value - shift).abs() < 1e-6);
+            prop_assert!((r2.te_cm1.value - r.te_cm1.value - shift).abs() < 1e-6);
+        }
+    }
+}
