@@ -1,17 +1,178 @@
-// Page wiring only: every number shown here comes from the wasm module (crates/wasm → core).
-import init, { version, codata_year } from './pkg/rungs_wasm.js';
+// Page wiring only: every number shown here comes from the wasm module (crates/wasm → core),
+// every figure from rungs-plot. The session lives in a Web Worker (worker.js) so reading large
+// tables and Monte Carlo never freeze the page; this thread draws figures and the DOM.
 
-const $ = (id) => document.getElementById(id);
+import init, {
+  version, codata_year, examples, energy_units, input_units, column_roles,
+  format_energy, format_number, Figures,
+} from './pkg/rungs_wasm.js';
+import { connect } from './js/rpc.js';
+import { $, el, download } from './js/dom.js';
+import { DataPanel } from './js/data.js';
+import { Results } from './js/results.js';
+import { FigurePanel } from './js/figures.js';
+import { SettingsForm } from './js/settings.js';
 
-async function main() {
-  await init();
-  $('version').textContent = version();
-  $('codata').textContent = String(codata_year());
-  $('status').textContent = 'Ready.';
+const state = {
+  report: null,
+  reportJson: null,
+  unit: 'cm-1',
+  unitLabel: 'cm⁻¹',
+  analysing: null,
+  started: performance.now(),
+};
+
+function status(text, kind = '') {
+  $('status-text').textContent = text;
+  $('status').className = `status ${kind}`;
 }
 
-main().catch((err) => {
-  $('status').textContent = `The numerics failed to load: ${err.message ?? err}`;
-  $('status').classList.add('error');
+async function boot() {
+  const wasmSource = globalThis.RUNGS_WASM_BYTES; // set by the single-file build
+  await init(wasmSource ? { module_or_path: wasmSource } : undefined);
+  $('version').textContent = version();
+  $('codata').textContent = String(codata_year());
+
+  const units = energy_units();
+  const unitSelect = $('unit');
+  for (const [token, label] of units) unitSelect.append(el('option', { value: token }, label));
+  unitSelect.addEventListener('change', () => {
+    state.unit = unitSelect.value;
+    state.unitLabel = units.find(([t]) => t === state.unit)?.[1] ?? state.unit;
+    renderResults();
+    figures.setUnit(state.unit);
+  });
+
+  for (const e of examples()) $('examples').append(el('option', { value: e.id, title: e.description }, e.title));
+
+  const worker = globalThis.RUNGS_WORKER_URL
+    ? new Worker(globalThis.RUNGS_WORKER_URL, { type: 'module' })
+    : new Worker(new URL('./worker.js', import.meta.url), { type: 'module' });
+  const rpc = connect(worker);
+  rpc.onProgress = (done, total) => {
+    const bar = $('progress');
+    bar.hidden = false;
+    bar.max = total;
+    bar.value = done;
+  };
+  await rpc.boot(wasmSource);
+
+  const results = new Results({ format_energy, format_number });
+  const figures = new FigurePanel();
+  const settings = new SettingsForm((s) => run(() => rpc.call('set_settings', s)).then(() => analyse()));
+  const data = new DataPanel(rpc, { roles: column_roles(), units: input_units() },
+    (change) => run(() => rpc.call('change_reading', change)).then(afterReading));
+
+  function renderResults() {
+    if (state.report) results.render(state.report, state.unit, state.unitLabel);
+  }
+
+  async function run(step) {
+    try {
+      return await step();
+    } catch (err) {
+      status(err.message, 'error');
+      throw err;
+    }
+  }
+
+  async function afterReading(reading) {
+    data.show(reading);
+    settings.show(await rpc.call('settings'));
+    for (const id of ['export-json', 'share-link']) $(id).disabled = false;
+    if (reading.usable_error) {
+      status(`Not enough usable data: ${reading.usable_error}`, 'error');
+      return;
+    }
+    await analyse();
+  }
+
+  async function analyse() {
+    status('Analysing…');
+    const t0 = performance.now();
+    let json;
+    try {
+      json = await rpc.call('analyze');
+    } catch (err) {
+      $('progress').hidden = true;
+      status(`The analysis failed: ${err.message}`, 'error');
+      return;
+    }
+    $('progress').hidden = true;
+    state.reportJson = json;
+    state.report = JSON.parse(json);
+    renderResults();
+    figures.show(new Figures(json), state.unit);
+    for (const id of ['export-json', 'export-csv', 'print-report']) $(id).disabled = false;
+    const ms = performance.now() - t0;
+    document.body.dataset.analysisMs = ms.toFixed(1);
+    if (!document.body.dataset.firstResultMs) {
+      document.body.dataset.firstResultMs = (performance.now() - state.started).toFixed(1);
+    }
+    status(`Analysed in ${ms.toFixed(0)} ms · ${state.report.levels.length} levels · Monte Carlo ${state.report.monte_carlo.ran ? `${state.report.monte_carlo.samples} draws` : 'off'}.`, 'ok');
+    document.body.dataset.state = 'analysed';
+  }
+
+  async function openBytes(name, bytes) {
+    status(`Reading ${name}…`);
+    const reading = await run(() => rpc.call('open_file', name, bytes));
+    $('examples').value = '';
+    await afterReading(reading);
+  }
+
+  // --- inputs: file chooser, drop anywhere, paste, examples -------------------------------
+  $('open-file').addEventListener('click', () => $('file-input').click());
+  $('file-input').addEventListener('change', async (e) => {
+    const file = e.target.files?.[0];
+    if (file) await openBytes(file.name, new Uint8Array(await file.arrayBuffer()));
+    e.target.value = '';
+  });
+  let dragDepth = 0;
+  document.addEventListener('dragenter', (e) => { e.preventDefault(); dragDepth += 1; $('drop-overlay').hidden = false; });
+  document.addEventListener('dragleave', () => { dragDepth = Math.max(0, dragDepth - 1); if (!dragDepth) $('drop-overlay').hidden = true; });
+  document.addEventListener('dragover', (e) => e.preventDefault());
+  document.addEventListener('drop', async (e) => {
+    e.preventDefault();
+    dragDepth = 0;
+    $('drop-overlay').hidden = true;
+    const file = e.dataTransfer?.files?.[0];
+    if (file) {
+      await openBytes(file.name, new Uint8Array(await file.arrayBuffer()));
+    } else {
+      const text = e.dataTransfer?.getData('text/plain');
+      if (text) await openBytes('dropped text', new TextEncoder().encode(text));
+    }
+  });
+  $('paste-open').addEventListener('click', () => $('paste-dialog').showModal());
+  $('paste-dialog').addEventListener('close', async () => {
+    if ($('paste-dialog').returnValue !== 'read') return;
+    const text = $('paste-text').value;
+    if (text.trim()) {
+      status('Reading the pasted table…');
+      const reading = await run(() => rpc.call('load_text', 'pasted table', text));
+      $('examples').value = '';
+      await afterReading(reading);
+    }
+  });
+  $('examples').addEventListener('change', async (e) => {
+    if (!e.target.value) return;
+    const reading = await run(() => rpc.call('load_example', e.target.value));
+    await afterReading(reading);
+  });
+
+  // --- export ---------------------------------------------------------------------------
+  $('export-json').addEventListener('click', async () => {
+    if (state.reportJson) download('rungs-analysis.json', 'application/json', state.reportJson);
+    else download('rungs-session.json', 'application/json', await rpc.call('session_json'));
+  });
+
+  // --- open with the demo ---------------------------------------------------------------
+  $('examples').value = 'qz2-levels';
+  const reading = await run(() => rpc.call('load_example', 'qz2-levels'));
+  await afterReading(reading);
+}
+
+boot().catch((err) => {
+  status(`The numerics failed to load: ${err.message ?? err}`, 'error');
   throw err;
 });

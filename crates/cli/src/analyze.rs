@@ -82,6 +82,12 @@ pub struct AnalyzeArgs {
     /// Bands: force the order of the lower state's G″(v).
     #[arg(long, value_name = "K")]
     pub lower_order: Option<u32>,
+    /// Also write every figure as SVG into this folder (created if missing).
+    #[arg(long, value_name = "DIR")]
+    pub figures: Option<PathBuf>,
+    /// Energy unit of the figures (cm-1, eV, kJ/mol, …).
+    #[arg(long, value_name = "U", default_value = "cm-1")]
+    pub figure_unit: String,
 }
 
 fn rotation(text: &str, flag: &str) -> Result<StateRotation, String> {
@@ -183,6 +189,24 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
         Ok(r) => r,
         Err(e) => return fail(format!("{}: {e}", args.file.display())),
     };
+    if let Some(dir) = &args.figures {
+        // A band analysis has one set of figures per state, in subfolders.
+        let sets: Vec<(&rungs_core::Report, PathBuf)> = match &report {
+            rungs_core::Analysis::Levels(r) => vec![(r, dir.clone())],
+            rungs_core::Analysis::Bands(b) => [
+                (b.states.upper.as_ref(), "upper"),
+                (b.states.lower.as_ref(), "lower"),
+            ]
+            .into_iter()
+            .filter_map(|(r, sub)| r.map(|r| (r, dir.join(sub))))
+            .collect(),
+        };
+        for (r, d) in sets {
+            if let Err(message) = write_figures(r, &d, &args.figure_unit) {
+                return fail(message);
+            }
+        }
+    }
     match args.format {
         Format::Text => print!("{}", report.render_text()),
         Format::Json => match report.to_json() {
@@ -194,4 +218,25 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
         },
     }
     ExitCode::SUCCESS
+}
+
+/// Writes every figure of `report` as `DIR/<id>.svg`.
+fn write_figures(
+    report: &rungs_core::Report,
+    dir: &std::path::Path,
+    unit: &str,
+) -> Result<(), String> {
+    use rungs_plot::figures::{EnergyScale, FIGURES, figure};
+    let unit = rungs_core::units::Unit::parse(unit).map_err(|e| e.to_string())?;
+    let scale = EnergyScale::of(unit)
+        .ok_or_else(|| format!("--figure-unit: {} is not an energy unit", unit.token()))?;
+    std::fs::create_dir_all(dir).map_err(|e| format!("{}: {e}", dir.display()))?;
+    for (id, _) in FIGURES {
+        if let Some(chart) = figure(report, id, scale) {
+            let svg = rungs_plot::to_svg(&chart, 900, 560).map_err(|e| e.to_string())?;
+            let path = dir.join(format!("{id}.svg"));
+            std::fs::write(&path, svg).map_err(|e| format!("{}: {e}", path.display()))?;
+        }
+    }
+    Ok(())
 }

@@ -20,6 +20,8 @@ use serde::{Deserialize, Serialize};
 
 pub use plotters::prelude::{DrawingArea, DrawingBackend};
 
+pub mod figures;
+
 /// The Okabe–Ito palette (black first), as RGB.
 pub const PALETTE: [(u8, u8, u8); 8] = [
     (0, 0, 0),       // black
@@ -163,6 +165,31 @@ pub struct XyChart {
     pub y_range: Option<(f64, f64)>,
     /// A short note printed under the plot (conventions, "SYNTHETIC", …).
     pub note: String,
+    /// Corner of the legend.
+    #[serde(default)]
+    pub legend: Legend,
+    /// Draw tick labels on the x axis (false for a ladder, whose x means nothing).
+    #[serde(default = "yes")]
+    pub x_ticks: bool,
+}
+
+fn yes() -> bool {
+    true
+}
+
+/// Where the legend goes, chosen per figure to stay clear of the data.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[serde(rename_all = "snake_case")]
+pub enum Legend {
+    /// Top right.
+    #[default]
+    UpperRight,
+    /// Top left.
+    UpperLeft,
+    /// Bottom left.
+    LowerLeft,
+    /// Bottom right.
+    LowerRight,
 }
 
 /// Rendering options: scale for high-DPI canvases and print.
@@ -305,7 +332,7 @@ pub fn draw<DB: DrawingBackend>(
     let (plot_area, note_area) = if chart.note.is_empty() {
         (area.clone(), None)
     } else {
-        let (h, _) = area.dim_in_pixel();
+        let (_, h) = area.dim_in_pixel();
         let (a, b) = area.split_vertically(h.saturating_sub(px(22.0)));
         (a, Some(b))
     };
@@ -317,8 +344,11 @@ pub fn draw<DB: DrawingBackend>(
         .y_label_area_size(px(68.0))
         .build_cartesian_2d(x_range.0..x_range.1, y_range.0..y_range.1)
         .map_err(backend_err)?;
-    ctx.configure_mesh()
-        .x_desc(&chart.x_label)
+    let mut mesh = ctx.configure_mesh();
+    if !chart.x_ticks {
+        mesh.x_labels(0).disable_x_mesh();
+    }
+    mesh.x_desc(&chart.x_label)
         .y_desc(&chart.y_label)
         .label_style(("sans-serif", 12.0 * s))
         .axis_desc_style(("sans-serif", 13.0 * s))
@@ -330,6 +360,7 @@ pub fn draw<DB: DrawingBackend>(
     let stroke = px(1.6);
     let marker = px(3.6);
     let mut any_label = false;
+    let mut v_rules = 0usize;
     for layer in &chart.layers {
         let colour = rgb(layer.colour);
         let style = ShapeStyle::from(&colour).stroke_width(stroke);
@@ -428,31 +459,68 @@ pub fn draw<DB: DrawingBackend>(
             }
             Mark::VRule { x, text } => {
                 let (y0, y1) = y_range;
-                draw_polyline(&mut ctx, vec![(*x, y0), (*x, y1)], Dash::Dotted, style, s)?;
-                let font = ("sans-serif", 12.0 * s).into_font().color(&colour);
-                ctx.draw_series(std::iter::once(Text::new(
-                    text.clone(),
-                    (*x, y1 - (y1 - y0) * 0.02),
-                    font.pos(Pos::new(HPos::Right, VPos::Top)),
-                )))
-                .map_err(backend_err)?;
+                let annotated =
+                    draw_polyline(&mut ctx, vec![(*x, y0), (*x, y1)], Dash::Dotted, style, s)?;
+                if !layer.label.is_empty() {
+                    any_label = true;
+                    let d = Dash::Dotted;
+                    annotated.label(&layer.label).legend(move |(x, y)| {
+                        let p = swatch(d, s);
+                        EmptyElement::at((x, y))
+                            + PathElement::new(vec![(p[0].0, 0), (p[0].1, 0)], style)
+                            + PathElement::new(vec![(p[1].0, 0), (p[1].1, 0)], style)
+                            + PathElement::new(vec![(p[2].0, 0), (p[2].1, 0)], style)
+                    });
+                }
+                if !text.is_empty() {
+                    // Stagger the labels of successive rules so neighbours stay readable.
+                    let drop = 0.02 + 0.045 * (v_rules % 6) as f64;
+                    v_rules += 1;
+                    let font = ("sans-serif", 12.0 * s).into_font().color(&colour);
+                    ctx.draw_series(std::iter::once(Text::new(
+                        text.clone(),
+                        (*x, y1 - (y1 - y0) * drop),
+                        font.pos(Pos::new(HPos::Right, VPos::Top)),
+                    )))
+                    .map_err(backend_err)?;
+                }
             }
             Mark::HRule { y, text } => {
                 let (x0, x1) = x_range;
-                draw_polyline(&mut ctx, vec![(x0, *y), (x1, *y)], Dash::Dotted, style, s)?;
-                let font = ("sans-serif", 12.0 * s).into_font().color(&colour);
-                ctx.draw_series(std::iter::once(Text::new(
-                    text.clone(),
-                    (x1 - (x1 - x0) * 0.01, *y),
-                    font.pos(Pos::new(HPos::Right, VPos::Bottom)),
-                )))
-                .map_err(backend_err)?;
+                let annotated =
+                    draw_polyline(&mut ctx, vec![(x0, *y), (x1, *y)], Dash::Dotted, style, s)?;
+                if !layer.label.is_empty() {
+                    any_label = true;
+                    let d = Dash::Dotted;
+                    annotated.label(&layer.label).legend(move |(x, y)| {
+                        let p = swatch(d, s);
+                        EmptyElement::at((x, y))
+                            + PathElement::new(vec![(p[0].0, 0), (p[0].1, 0)], style)
+                            + PathElement::new(vec![(p[1].0, 0), (p[1].1, 0)], style)
+                            + PathElement::new(vec![(p[2].0, 0), (p[2].1, 0)], style)
+                    });
+                }
+                if !text.is_empty() {
+                    let font = ("sans-serif", 12.0 * s).into_font().color(&colour);
+                    ctx.draw_series(std::iter::once(Text::new(
+                        text.clone(),
+                        (x1 - (x1 - x0) * 0.01, *y),
+                        font.pos(Pos::new(HPos::Right, VPos::Bottom)),
+                    )))
+                    .map_err(backend_err)?;
+                }
             }
         }
     }
     if any_label {
+        let position = match chart.legend {
+            Legend::UpperRight => SeriesLabelPosition::UpperRight,
+            Legend::UpperLeft => SeriesLabelPosition::UpperLeft,
+            Legend::LowerLeft => SeriesLabelPosition::LowerLeft,
+            Legend::LowerRight => SeriesLabelPosition::LowerRight,
+        };
         ctx.configure_series_labels()
-            .position(SeriesLabelPosition::UpperRight)
+            .position(position)
             .background_style(WHITE.mix(0.85))
             .border_style(RGBColor(200, 200, 200))
             .label_font(("sans-serif", 12.0 * s))
@@ -621,6 +689,8 @@ mod tests {
             x_range: None,
             y_range: None,
             note: "SYNTHETIC".into(),
+            legend: Legend::UpperRight,
+            x_ticks: true,
         }
     }
 

@@ -17,6 +17,9 @@ use rungs_core::units::Unit;
 use serde::{Deserialize, Serialize};
 use wasm_bindgen::prelude::*;
 
+mod figures;
+pub use figures::Figures;
+
 /// Install the panic hook once, so a bug shows a readable message in the console.
 #[wasm_bindgen(start)]
 pub fn start() {
@@ -35,11 +38,94 @@ pub fn codata_year() -> u32 {
     rungs_core::constants::CODATA_YEAR
 }
 
-fn js_err(e: impl std::fmt::Display) -> JsError {
+/// The built-in SYNTHETIC examples: `[{id, title, description, file_name}]`.
+#[wasm_bindgen]
+pub fn examples() -> Result<JsValue, JsError> {
+    #[derive(Serialize)]
+    struct E {
+        id: &'static str,
+        title: &'static str,
+        description: &'static str,
+        file_name: &'static str,
+    }
+    let list: Vec<E> = rungs_core::examples::EXAMPLES
+        .iter()
+        .map(|e| E {
+            id: e.id,
+            title: e.title,
+            description: e.description,
+            file_name: e.file_name,
+        })
+        .collect();
+    to_js(&list)
+}
+
+/// Energy units a result can be shown in: `[{token, label}]` (cm⁻¹ first).
+#[wasm_bindgen]
+pub fn energy_units() -> Result<JsValue, JsError> {
+    let list: Vec<(&str, &str)> = rungs_core::units::ALL_UNITS
+        .iter()
+        .filter(|u| u.cm1_per_unit().is_some())
+        .map(|u| (u.token(), u.label()))
+        .collect();
+    to_js(&list)
+}
+
+/// Every unit a column can be given in (energies and wavelengths): `[{token, label}]`.
+#[wasm_bindgen]
+pub fn input_units() -> Result<JsValue, JsError> {
+    let list: Vec<(&str, &str)> = rungs_core::units::ALL_UNITS
+        .iter()
+        .map(|u| (u.token(), u.label()))
+        .collect();
+    to_js(&list)
+}
+
+/// Every column role: `[{name, label}]`.
+#[wasm_bindgen]
+pub fn column_roles() -> Result<JsValue, JsError> {
+    let list: Vec<(&str, &str)> = intake::ALL_ROLES
+        .iter()
+        .map(|r| (r.name(), r.label()))
+        .collect();
+    to_js(&list)
+}
+
+/// Convert an energy from cm⁻¹ to the display unit `unit` (a token from [`energy_units`]).
+#[wasm_bindgen]
+pub fn energy_from_cm1(value_cm1: f64, unit: &str) -> Result<f64, JsError> {
+    let u = Unit::parse(unit).map_err(js_err)?;
+    if u.cm1_per_unit().is_none() {
+        return Err(js_err(format!("'{unit}' is not an energy unit")));
+    }
+    u.from_cm1(value_cm1).map_err(js_err)
+}
+
+/// An energy (and its σ) given in cm⁻¹, converted to `unit` and rounded for display: σ to two
+/// significant digits and the value to match (see `rungs_core::format`). Returns
+/// `[value, sigma]` strings (sigma null when not given).
+#[wasm_bindgen]
+pub fn format_energy(
+    value_cm1: f64,
+    sigma_cm1: Option<f64>,
+    unit: &str,
+) -> Result<JsValue, JsError> {
+    let v = energy_from_cm1(value_cm1, unit)?;
+    let s = sigma_cm1.map(|s| energy_from_cm1(s, unit)).transpose()?;
+    to_js(&rungs_core::format::value_sigma(v, s, 7))
+}
+
+/// A plain number rounded to its σ (no unit conversion): `[value, sigma]` strings.
+#[wasm_bindgen]
+pub fn format_number(value: f64, sigma: Option<f64>, digits: usize) -> Result<JsValue, JsError> {
+    to_js(&rungs_core::format::value_sigma(value, sigma, digits))
+}
+
+pub(crate) fn js_err(e: impl std::fmt::Display) -> JsError {
     JsError::new(&e.to_string())
 }
 
-fn to_js<T: Serialize>(value: &T) -> Result<JsValue, JsError> {
+pub(crate) fn to_js<T: Serialize>(value: &T) -> Result<JsValue, JsError> {
     let ser = serde_wasm_bindgen::Serializer::json_compatible();
     value.serialize(&ser).map_err(js_err)
 }
@@ -157,6 +243,21 @@ impl Workbench {
     pub fn load_bytes(&mut self, name: Option<String>, bytes: Vec<u8>) -> Result<JsValue, JsError> {
         let (text, _encoding) = intake::decode(&bytes);
         self.load_text(name, text)
+    }
+
+    /// Load built-in example `id` (with its reduced mass); returns the reading summary.
+    pub fn load_example(&mut self, id: &str) -> Result<JsValue, JsError> {
+        let example = rungs_core::examples::example(id)
+            .ok_or_else(|| js_err(format!("no built-in example '{id}'")))?;
+        self.install(example.session())
+    }
+
+    /// Open a file the user handed over: a table, a session document, or an exported analysis
+    /// (its embedded session is restored). Returns the reading summary.
+    pub fn open_file(&mut self, name: Option<String>, bytes: Vec<u8>) -> Result<JsValue, JsError> {
+        let (text, _encoding) = intake::decode(&bytes);
+        let session = Session::open(name, &text).map_err(js_err)?;
+        self.install(session)
     }
 
     /// Restore a whole session from its JSON document.
@@ -295,6 +396,18 @@ impl Workbench {
             .ok_or_else(|| js_err("no data loaded"))?;
         session.settings = settings;
         Ok(())
+    }
+
+    /// Run the analysis of the current session. `progress(done, total)` is called as the Monte
+    /// Carlo draws advance. Returns the analysis document as JSON (the same document the
+    /// command line prints with `--format json`).
+    pub fn analyze(&self, progress: &js_sys::Function) -> Result<String, JsError> {
+        let (session, _) = self.current()?;
+        let mut hook = |done: usize, total: usize| {
+            let _ = progress.call2(&JsValue::NULL, &JsValue::from(done), &JsValue::from(total));
+        };
+        let report = rungs_core::analyze_session(session, &mut hook).map_err(js_err)?;
+        report.to_json().map_err(js_err)
     }
 
     /// The current analysis settings.

@@ -1,0 +1,430 @@
+//! The figures of a single-state analysis, built from a core [`Report`] as [`XyChart`]s.
+//!
+//! Each function only arranges values the report already holds (points, sampled curves, v_D,
+//! limits) and rescales energies to the display unit with core's conversion factor; nothing
+//! physical is computed here.
+
+use rungs_core::report::Report;
+use rungs_core::units::Unit;
+
+use crate::{Dash, Layer, Legend, Mark, Point, Shape, XyChart};
+
+/// Identifiers of the figures a single-state report offers, in display order.
+pub const FIGURES: [(&str, &str); 5] = [
+    ("spacings", "Spacings ΔG with every extrapolation"),
+    ("residuals", "Residuals of the selected G(v) fit"),
+    (
+        "near-limit",
+        "Near-dissociation (LeRoy–Bernstein) linearised plot",
+    ),
+    ("levels", "Levels G(v) with model curves"),
+    ("ladder", "Level ladder and dissociation limits"),
+];
+
+/// Palette index and marker for a method, fixed so a method keeps its look in every figure.
+pub fn method_style(method: &str) -> (usize, Shape) {
+    match method {
+        "observed-sum" => (0, Shape::Circle),
+        "birge-sponer-linear" => (1, Shape::Square),
+        "birge-sponer-curved" => (2, Shape::Triangle),
+        "leroy-bernstein" => (3, Shape::Circle),
+        "leroy-bernstein-n-free" => (4, Shape::Cross),
+        "leroy-bernstein-alt-levels" => (5, Shape::Triangle),
+        "leroy-bernstein-cn-fixed" => (6, Shape::Square),
+        _ => (0, Shape::Cross),
+    }
+}
+
+/// A display unit for energies: its label and the factor from cm⁻¹.
+#[derive(Debug, Clone, Copy)]
+pub struct EnergyScale {
+    /// Multiply a value in cm⁻¹ by this to get the display unit.
+    pub per_cm1: f64,
+    /// Axis label of the unit.
+    pub label: &'static str,
+}
+
+impl EnergyScale {
+    /// The scale for `unit`, when it is an energy unit (wavelength units are not).
+    pub fn of(unit: Unit) -> Option<EnergyScale> {
+        unit.cm1_per_unit().map(|f| EnergyScale {
+            per_cm1: 1.0 / f,
+            label: unit.label(),
+        })
+    }
+
+    /// cm⁻¹ itself.
+    pub fn cm1() -> EnergyScale {
+        EnergyScale {
+            per_cm1: 1.0,
+            label: "cm⁻¹",
+        }
+    }
+
+    fn e(&self, cm1: f64) -> f64 {
+        cm1 * self.per_cm1
+    }
+}
+
+fn synthetic_note(report: &Report) -> &'static str {
+    let synthetic = report
+        .session
+        .as_ref()
+        .is_some_and(|s| s.input.text.contains("SYNTHETIC"));
+    if synthetic { "SYNTHETIC data · " } else { "" }
+}
+
+/// Build figure `id` (one of [`FIGURES`]) for `report` in energy unit `scale`.
+pub fn figure(report: &Report, id: &str, scale: EnergyScale) -> Option<XyChart> {
+    match id {
+        "spacings" => Some(spacings(report, scale)),
+        "residuals" => Some(residuals(report, scale)),
+        "near-limit" => near_limit(report),
+        "levels" => Some(levels(report, scale)),
+        "ladder" => Some(ladder(report, scale)),
+        _ => None,
+    }
+}
+
+/// ΔG_{v+½} against x = v + ½ with error bars, every method's spacing curve and its v_D.
+pub fn spacings(report: &Report, scale: EnergyScale) -> XyChart {
+    let mut layers = Vec::new();
+    let defensible = |m: &str| {
+        report
+            .estimates
+            .iter()
+            .any(|e| e.method == m && e.defensible)
+    };
+    for c in &report.plot.spacing_curves {
+        let (colour, _) = method_style(&c.method);
+        let dash = if defensible(&c.method) {
+            Dash::Solid
+        } else {
+            Dash::Dashed
+        };
+        layers.push(Layer {
+            label: c.label.clone(),
+            colour,
+            mark: Mark::Line {
+                points: c.points.iter().map(|p| (p[0], scale.e(p[1]))).collect(),
+                dash,
+            },
+        });
+        if let Some(vd) = c.v_d {
+            layers.push(Layer {
+                label: String::new(),
+                colour,
+                mark: Mark::VRule {
+                    x: vd,
+                    text: format!("v_D {vd:.1}"),
+                },
+            });
+        }
+    }
+    let points = report
+        .spacings
+        .iter()
+        .map(|s| Point {
+            x: s.x,
+            y: scale.e(s.spacing_cm1),
+            y_err: s.sigma_cm1.map(|e| scale.e(e)),
+            included: true,
+            tag: format!(
+                "ΔG(v = {}→{}) = {:.4} ± {} {}",
+                s.v_lower,
+                s.v_lower + 1,
+                scale.e(s.spacing_cm1),
+                s.sigma_cm1
+                    .map(|e| format!("{:.2e}", scale.e(e)))
+                    .unwrap_or("?".into()),
+                scale.label
+            ),
+        })
+        .collect();
+    layers.push(Layer {
+        label: "observed ΔG".into(),
+        colour: 0,
+        mark: Mark::Points {
+            points,
+            shape: Shape::Circle,
+        },
+    });
+    XyChart {
+        title: "Vibrational spacings and extrapolations".into(),
+        x_label: "x = v + ½  (v = lower level)".into(),
+        y_label: format!("ΔG_(v+½) / {}", scale.label),
+        layers,
+        x_range: None,
+        y_range: Some((
+            0.0,
+            max_y(report.spacings.iter().map(|s| scale.e(s.spacing_cm1))) * 1.08,
+        )),
+        note: format!(
+            "{}ΔG_(v+½) = G(v+1) − G(v) plotted at x = v + ½ (v_D sits where a straight line reaches zero); dashed: not in the recommendation",
+            synthetic_note(report)
+        ),
+        legend: Legend::LowerLeft,
+        x_ticks: true,
+    }
+}
+
+fn max_y(it: impl Iterator<Item = f64>) -> f64 {
+    it.filter(|y| y.is_finite())
+        .fold(0.0, f64::max)
+        .max(f64::MIN_POSITIVE)
+}
+
+/// Observed − fitted G(v) of the selected polynomial, with σ and outliers marked.
+pub fn residuals(report: &Report, scale: EnergyScale) -> XyChart {
+    let points = report
+        .fit
+        .residuals
+        .iter()
+        .map(|r| Point {
+            x: r.v,
+            y: scale.e(r.residual_cm1),
+            y_err: r.sigma_cm1.map(|e| scale.e(e)),
+            included: true,
+            tag: format!(
+                "v = {}: obs − calc = {:.4} {}{}",
+                r.v,
+                scale.e(r.residual_cm1),
+                scale.label,
+                r.studentized
+                    .map(|s| format!(", studentized {s:.2}"))
+                    .unwrap_or_default()
+            ),
+        })
+        .collect();
+    let outliers: Vec<Point> = report
+        .fit
+        .residuals
+        .iter()
+        .filter(|r| r.outlier)
+        .map(|r| Point {
+            x: r.v,
+            y: scale.e(r.residual_cm1),
+            y_err: None,
+            included: true,
+            tag: format!(
+                "v = {}: flagged (|studentized| > {})",
+                r.v, report.fit.outlier_threshold
+            ),
+        })
+        .collect();
+    let mut layers = vec![
+        Layer {
+            label: String::new(),
+            colour: 0,
+            mark: Mark::HRule {
+                y: 0.0,
+                text: String::new(),
+            },
+        },
+        Layer {
+            label: format!("order-{} fit", report.fit.order),
+            colour: 1,
+            mark: Mark::Points {
+                points,
+                shape: Shape::Circle,
+            },
+        },
+    ];
+    if !outliers.is_empty() {
+        layers.push(Layer {
+            label: "possible outlier".into(),
+            colour: 2,
+            mark: Mark::Points {
+                points: outliers,
+                shape: Shape::Cross,
+            },
+        });
+    }
+    let x_label = if report.input.kind == rungs_core::dunham::DataKind::Spacings {
+        "v (lower level)"
+    } else {
+        "v"
+    };
+    XyChart {
+        title: format!("Residuals of the order-{} fit", report.fit.order),
+        x_label: x_label.into(),
+        y_label: format!("observed − fitted / {}", scale.label),
+        layers,
+        x_range: None,
+        y_range: None,
+        note: format!("{}error bars: σ as used in the fit", synthetic_note(report)),
+        legend: Legend::UpperRight,
+        x_ticks: true,
+    }
+}
+
+/// The near-dissociation linearised plot (ΔG)^((n−2)/(n+2)) against x = v + ½.
+pub fn near_limit(report: &Report) -> Option<XyChart> {
+    let lin = report.plot.lb_linearised.as_ref()?;
+    let (colour, _) = method_style(&lin.method);
+    let points = lin
+        .points
+        .iter()
+        .map(|p| Point {
+            x: p.x,
+            y: p.y,
+            y_err: p.sigma,
+            included: true,
+            tag: format!("x = {}: ΔG^{:.3} = {:.5}", p.x, lin.exponent, p.y),
+        })
+        .collect();
+    Some(XyChart {
+        title: format!("Near-dissociation plot, n = {}", lin.n),
+        x_label: "x = v + ½".into(),
+        y_label: format!("(ΔG / cm⁻¹)^{:.4}", lin.exponent),
+        layers: vec![
+            Layer {
+                label: "LeRoy–Bernstein line".into(),
+                colour,
+                mark: Mark::Line {
+                    points: lin.line.iter().map(|p| (p[0], p[1])).collect(),
+                    dash: Dash::Solid,
+                },
+            },
+            Layer {
+                label: "observed".into(),
+                colour: 0,
+                mark: Mark::Points {
+                    points,
+                    shape: Shape::Circle,
+                },
+            },
+        ],
+        x_range: None,
+        y_range: None,
+        note: format!(
+            "{}a straight line whose zero is v_D + ½ if the levels follow D − C_n/rⁿ; exponent (n−2)/(n+2)",
+            synthetic_note(report)
+        ),
+        legend: Legend::UpperRight,
+        x_ticks: true,
+    })
+}
+
+/// G(v) data with every model's level curve.
+pub fn levels(report: &Report, scale: EnergyScale) -> XyChart {
+    let mut layers: Vec<Layer> = report
+        .plot
+        .level_curves
+        .iter()
+        .map(|c| Layer {
+            label: c.label.clone(),
+            colour: method_style(&c.method).0,
+            mark: Mark::Line {
+                points: c.points.iter().map(|p| (p[0], scale.e(p[1]))).collect(),
+                dash: Dash::Solid,
+            },
+        })
+        .collect();
+    layers.push(Layer {
+        label: "observed levels".into(),
+        colour: 0,
+        mark: Mark::Points {
+            points: report
+                .plot
+                .levels
+                .iter()
+                .map(|p| Point {
+                    x: p.x,
+                    y: scale.e(p.y),
+                    y_err: p.sigma.map(|e| scale.e(e)),
+                    included: true,
+                    tag: format!("G(v = {}) = {:.4} {}", p.x, scale.e(p.y), scale.label),
+                })
+                .collect(),
+            shape: Shape::Circle,
+        },
+    });
+    XyChart {
+        title: "Levels and model curves".into(),
+        x_label: "v".into(),
+        y_label: format!("G(v) / {}", scale.label),
+        layers,
+        x_range: None,
+        y_range: None,
+        note: format!("{}energies on the input's origin", synthetic_note(report)),
+        legend: Legend::LowerRight,
+        x_ticks: true,
+    }
+}
+
+/// The top of the well: the highest observed levels as rungs and each method's dissociation
+/// limit (D0 from v = 0) as a rule, so the distance from the last level to each limit shows.
+pub fn ladder(report: &Report, scale: EnergyScale) -> XyChart {
+    let g0 = report
+        .levels
+        .iter()
+        .find(|l| l.v == 0)
+        .or_else(|| report.levels.first())
+        .map(|l| l.energy_cm1)
+        .unwrap_or(0.0);
+    // Show the top eight observed levels and every limit above them.
+    let shown: Vec<_> = report.levels.iter().rev().take(8).collect();
+    let segments: Vec<_> = shown
+        .iter()
+        .map(|l| {
+            let y = scale.e(l.energy_cm1 - g0);
+            ((0.05, y), (0.45, y))
+        })
+        .collect();
+    let mut layers = vec![Layer {
+        label: format!(
+            "observed levels v = {}…{}",
+            shown.last().map(|l| l.v).unwrap_or(0),
+            shown.first().map(|l| l.v).unwrap_or(0)
+        ),
+        colour: 0,
+        mark: Mark::Segments {
+            segments,
+            dash: Dash::Solid,
+        },
+    }];
+    for e in &report.estimates {
+        if let Some(d0) = e.d0_cm1 {
+            let (colour, _) = method_style(&e.method);
+            layers.push(Layer {
+                label: format!(
+                    "{}: {}",
+                    e.label,
+                    rungs_core::format::significant(scale.e(d0), 7)
+                ),
+                colour,
+                mark: Mark::HRule {
+                    y: scale.e(d0),
+                    text: String::new(),
+                },
+            });
+        }
+    }
+    let lo = shown
+        .last()
+        .map(|l| scale.e(l.energy_cm1 - g0))
+        .unwrap_or(0.0);
+    let hi = report
+        .estimates
+        .iter()
+        .filter_map(|e| e.d0_cm1)
+        .map(|d| scale.e(d))
+        .chain(shown.first().map(|l| scale.e(l.energy_cm1 - g0)))
+        .fold(lo, f64::max);
+    let pad = (hi - lo).max(f64::MIN_POSITIVE) * 0.06;
+    XyChart {
+        title: "Top of the well: last levels and each method's limit".into(),
+        x_label: String::new(),
+        y_label: format!("energy above v = 0 / {}", scale.label),
+        layers,
+        x_range: Some((0.0, 1.0)),
+        y_range: Some((lo - pad, hi + pad)),
+        note: format!(
+            "{}rules: D0 of each method, measured from v = 0",
+            synthetic_note(report)
+        ),
+        legend: Legend::LowerRight,
+        x_ticks: false,
+    }
+}

@@ -1,0 +1,133 @@
+// Result tables of a single-state analysis: the recommended D0, warnings, every method side by
+// side, vibrational constants, the order-selection table and the assumptions. Every number is
+// converted and rounded by the wasm module (format_energy / format_number).
+
+import { el, clear, table, $ } from './dom.js';
+
+export class Results {
+  constructor(wasm) {
+    this.wasm = wasm;
+  }
+
+  energy(v, s, unit) {
+    if (v === null || v === undefined) return ['—', null];
+    return this.wasm.format_energy(v, s ?? undefined, unit);
+  }
+
+  pm(v, s, unit) {
+    const [a, b] = this.energy(v, s, unit);
+    return b ? `${a} ± ${b}` : a;
+  }
+
+  num(v, s, digits = 5) {
+    if (v === null || v === undefined) return '—';
+    const [a, b] = this.wasm.format_number(v, s ?? undefined, digits);
+    return b ? `${a} ± ${b}` : a;
+  }
+
+  render(report, unitToken, unitLabel) {
+    $('results').hidden = false;
+    this.renderRecommended(report, unitToken, unitLabel);
+    this.renderEstimates(report, unitToken, unitLabel);
+    this.renderConstants(report, unitToken, unitLabel);
+    this.renderOrders(report);
+    this.renderAssumptions(report);
+  }
+
+  renderRecommended(report, u, label) {
+    const r = report.recommended;
+    const host = clear($('recommended'));
+    if (r.d0_cm1 === null || r.d0_cm1 === undefined) {
+      host.append(el('p', { class: 'big' }, 'No defensible dissociation limit from these data.'), el('p', {}, r.reason));
+    } else {
+      const [d0, stat] = this.energy(r.d0_cm1, r.sigma_stat_cm1, u);
+      const model = r.sigma_model_cm1 === null || r.sigma_model_cm1 === undefined ? null : this.energy(r.d0_cm1, r.sigma_model_cm1, u)[1];
+      host.append(
+        el('p', { class: 'big', id: 'd0-line' },
+          'D0 = ', el('strong', { id: 'd0-value' }, d0),
+          stat ? ` ± ${stat} (stat)` : ' (stat. σ not estimable)',
+          model ? ` ± ${model} (model)` : ' (model σ: only one defensible method)',
+          ` ${label}`),
+        el('p', {}, `De = D0 + G(0) = ${this.pm(r.de_cm1, null, u)} ${label}`,
+          ` · method: ${report.estimates.find((e) => e.method === r.method)?.label ?? r.method}`,
+          r.spread_methods?.length > 1 ? ` · model spread over ${r.spread_methods.length} methods` : ''),
+        el('p', { class: 'reason' }, r.reason),
+        el('p', { class: 'estimate-note' }, report.statement));
+    }
+    const w = clear($('warnings'));
+    for (const text of report.warnings) w.append(el('li', {}, text));
+  }
+
+  renderEstimates(report, u, label) {
+    const head = ['method', `D0 / ${label}`, `De / ${label}`, 'v_D', 'bound levels', 'extrapolated', `MC median [16 %, 84 %] / ${label}`, 'in recommendation', 'note'];
+    const rows = report.estimates.map((e) => {
+      const mc = e.monte_carlo?.d0;
+      const mcText = mc && mc.median !== null
+        ? `${this.energy(mc.median, null, u)[0]} [${mc.p16 === null ? '—' : this.energy(mc.p16, null, u)[0]}, ${mc.p84 === null ? '—' : this.energy(mc.p84, null, u)[0]}]`
+        : '—';
+      return {
+        class: e.defensible ? 'defensible' : 'other',
+        cells: [
+          { text: e.label, title: e.method },
+          { text: e.d0_cm1 === null ? '—' : this.pm(e.d0_cm1, e.d0_sigma_cm1, u), class: 'num' },
+          { text: e.de_cm1 === null ? '—' : this.pm(e.de_cm1, e.de_sigma_cm1, u), class: 'num' },
+          { text: e.v_d === null ? '—' : this.num(e.v_d, e.v_d_sigma, 4), class: 'num' },
+          { text: e.n_bound ?? '—', class: 'num' },
+          { text: e.extrapolated_fraction === null ? '—' : `${(100 * e.extrapolated_fraction).toFixed(1)} %`, class: 'num' },
+          { text: mcText, class: 'num' },
+          e.defensible ? 'yes' : 'no',
+          { text: e.defensible ? e.defensible_reason : `${e.reason}; ${e.defensible_reason}`, class: 'note' },
+        ],
+      };
+    });
+    clear($('estimates')).append(table(head, rows, 'σ: one standard deviation from the data covariance (statistical only)'));
+  }
+
+  renderConstants(report, u, label) {
+    const c = report.constants;
+    const rows = [];
+    const add = (name, k) => {
+      if (k) rows.push([name, { text: this.pm(k.value, k.sigma, u), class: 'num' }]);
+    };
+    add('ωe', c.we_cm1);
+    add('ωexe', c.wexe_cm1);
+    add('ωeye', c.weye_cm1);
+    add('ωeze', c.weze_cm1);
+    rows.push(['G(0) (zero point above the minimum)', { text: this.pm(c.zero_point_cm1.value, c.zero_point_cm1.sigma, u), class: 'num' }]);
+    const m = report.morse;
+    if (m) {
+      rows.push(['Morse De = ωe²/4ωexe', { text: this.pm(m.de_cm1?.value, m.de_cm1?.sigma, u), class: 'num' }]);
+      if (m.a_per_angstrom) rows.push(['Morse a / Å⁻¹', { text: this.num(m.a_per_angstrom.value, m.a_per_angstrom.sigma), class: 'num' }]);
+      if (m.force_constant_n_per_m) rows.push(['force constant k_e / N m⁻¹', { text: this.num(m.force_constant_n_per_m.value, m.force_constant_n_per_m.sigma), class: 'num' }]);
+    }
+    const host = clear($('constants'));
+    host.append(table(['constant', `value / ${label}`], rows, `From the order-${c.order} fit of G(v); σ as used for every estimate`));
+    if (c.correlation?.length > 1) {
+      const names = c.dunham.map((d) => d.name ?? `Y${d.k}0`);
+      host.append(table(['', ...names], c.correlation.map((row, i) => [names[i], ...row.map((x) => ({ text: x.toFixed(3), class: 'num' }))]), 'Correlation of the Dunham coefficients'));
+    }
+  }
+
+  renderOrders(report) {
+    const o = report.order_selection;
+    const rows = o.rows.map((r) => ({
+      class: r.order === report.fit.order ? 'chosen' : '',
+      cells: [r.order, r.dof, { text: this.num(r.chi2, null, 6), class: 'num' },
+        { text: r.chi2_reduced === null ? '—' : this.num(r.chi2_reduced, null, 4), class: 'num' },
+        { text: r.aicc === null ? '—' : this.num(r.aicc, null, 7), class: 'num' },
+        { text: r.bic === null ? '—' : this.num(r.bic, null, 7), class: 'num' },
+        { text: r.f_p_value === null ? '—' : r.f_p_value.toExponential(2), class: 'num' },
+        { text: r.top_significance === null ? '—' : r.top_significance.toFixed(1), class: 'num' }],
+    }));
+    const host = clear($('orders'));
+    host.append(table(['order', 'dof', 'χ²', 'χ²/dof', 'AICc', 'BIC', 'p (F, one step)', '|Y_K|/σ'], rows), el('p', {}, o.reason));
+  }
+
+  renderAssumptions(report) {
+    clear($('assumptions')).append(
+      el('h3', {}, 'Each number rests on'), el('ul', {}, report.assumptions.map((a) => el('li', {}, a))),
+      el('h3', {}, 'Conventions'), el('ul', {}, report.conventions.map((a) => el('li', {}, a))),
+      el('p', {}, `Uncertainty: ${report.uncertainty.note}`),
+      el('p', {}, `Monte Carlo: ${report.monte_carlo.ran ? `${report.monte_carlo.samples} draws, seed ${report.monte_carlo.seed} (${report.monte_carlo.generator})` : 'not run'} — ${report.monte_carlo.note}`));
+  }
+}
