@@ -110,7 +110,10 @@ async function boot() {
     if (!document.body.dataset.firstResultMs) {
       document.body.dataset.firstResultMs = (performance.now() - state.started).toFixed(1);
     }
-    status(`Analysed in ${ms.toFixed(0)} ms · ${state.report.levels.length} levels · Monte Carlo ${state.report.monte_carlo.ran ? `${state.report.monte_carlo.samples} draws` : 'off'}.`, 'ok');
+    const r = state.report;
+    const what = r.format === 'rungs-band-analysis' ? `${r.input.n_bands} bands, both states` : `${r.levels.length} levels`;
+    const mc = r.settings.mc_samples ? `Monte Carlo ${r.settings.mc_samples} draws` : 'Monte Carlo off';
+    status(`Analysed in ${ms.toFixed(0)} ms · ${what} · ${mc}.`, 'ok');
     document.body.dataset.state = 'analysed';
   }
 

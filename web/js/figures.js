@@ -35,11 +35,11 @@ export class FigurePanel {
 
   renderTabs() {
     const tabs = clear($('figure-tabs'));
-    for (const [id, title] of this.list) {
+    for (const [id, title, short] of this.list) {
       tabs.append(el('button', {
         type: 'button', role: 'tab', 'aria-selected': id === this.current ? 'true' : 'false', 'data-figure': id, title,
         onclick: () => this.select(id),
-      }, title.split(/ with | of |\(|:/)[0].trim()));
+      }, short));
     }
   }
 

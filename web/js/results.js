@@ -25,13 +25,55 @@ export class Results {
     return b ? `${a} ± ${b}` : a;
   }
 
-  render(report, unitToken, unitLabel) {
+  render(doc, unitToken, unitLabel) {
     $('results').hidden = false;
-    this.renderRecommended(report, unitToken, unitLabel);
-    this.renderEstimates(report, unitToken, unitLabel);
-    this.renderConstants(report, unitToken, unitLabel);
-    this.renderOrders(report);
-    this.renderAssumptions(report);
+    if (doc.format === 'rungs-band-analysis') {
+      this.renderBands(doc, unitToken, unitLabel);
+      return;
+    }
+    this.renderRecommended(doc, unitToken, unitLabel);
+    clear($('estimates')).append(this.estimatesTable(doc, unitToken, unitLabel));
+    clear($('constants')).append(...this.constantsTables(doc.constants, doc.morse, unitToken, unitLabel));
+    this.renderOrders(doc);
+    this.renderAssumptions(doc);
+  }
+
+  /** A band list: both states, T00/Te, the numbering verdict and the energy cycle. */
+  renderBands(doc, u, label) {
+    const host = clear($('recommended'));
+    const n = doc.numbering;
+    const conv = doc.convergence;
+    host.append(
+      el('p', { class: 'big', id: 'd0-line' }, 'T00 = ', el('strong', { id: 't00-value' }, this.pm(doc.t00_cm1.value, doc.t00_cm1.sigma, u)),
+        ` ${label} · Te = ${this.pm(doc.te_cm1.value, doc.te_cm1.sigma, u)} ${label}`),
+      el('p', { id: 'numbering' }, el('strong', {}, 'Numbering: '), n.verdict_text, ` — ${n.why}`));
+    for (const [name, state] of [['Upper', doc.states.upper], ['Lower', doc.states.lower]]) {
+      const r = state?.recommended;
+      host.append(el('p', {}, el('strong', {}, `${name} state: `),
+        r && r.d0_cm1 !== null
+          ? `D0 = ${this.pm(r.d0_cm1, r.sigma_stat_cm1, u)} (stat)${r.sigma_model_cm1 !== null ? ` ± ${this.energy(r.d0_cm1, r.sigma_model_cm1, u)[1]} (model)` : ''} ${label} — ${r.reason}`
+          : (name === 'Upper' ? doc.states.upper_note : doc.states.lower_note)));
+    }
+    if (conv.upper_limit_cm1) {
+      host.append(el('p', {}, `Upper-state limit above lower v = 0: E_lim = T00 + D0′ = ${this.pm(conv.upper_limit_cm1.value, conv.upper_limit_cm1.sigma, u)} ${label}`,
+        conv.d0_lower_cm1 ? `; with the atomic excitation energy given, D0″ = E_lim − E_atom = ${this.pm(conv.d0_lower_cm1.value, conv.d0_lower_cm1.sigma, u)} ${label}` : ''));
+    }
+    host.append(el('p', { class: 'estimate-note' }, doc.statement));
+    const w = clear($('warnings'));
+    const all = [...doc.warnings, ...(doc.states.upper?.warnings ?? []).map((t) => `upper state: ${t}`), ...(doc.states.lower?.warnings ?? []).map((t) => `lower state: ${t}`)];
+    for (const text of all) w.append(el('li', {}, text));
+
+    const est = clear($('estimates'));
+    for (const [name, state] of [['Upper state', doc.states.upper], ['Lower state', doc.states.lower]]) {
+      if (state) est.append(el('h3', {}, name), this.estimatesTable(state, u, label));
+    }
+    const g = doc.global_fit;
+    const cons = clear($('constants'));
+    if (g.upper) cons.append(el('h3', {}, 'Upper state (global fit of the band positions)'), ...this.constantsTables(g.upper, null, u, label));
+    if (g.lower) cons.append(el('h3', {}, 'Lower state (global fit of the band positions)'), ...this.constantsTables(g.lower, null, u, label));
+    cons.append(el('p', {}, `Global fit: ${g.n_bands} bands, ${g.n_params} parameters, χ²/dof = ${g.chi2_reduced === null ? '—' : this.num(g.chi2_reduced, null, 4)}. ${g.uncertainty_note}`));
+    clear($('orders')).append(el('p', {}, g.order_selection.reason));
+    this.renderAssumptions(doc);
   }
 
   renderRecommended(report, u, label) {
@@ -58,7 +100,7 @@ export class Results {
     for (const text of report.warnings) w.append(el('li', {}, text));
   }
 
-  renderEstimates(report, u, label) {
+  estimatesTable(report, u, label) {
     const head = ['method', `D0 / ${label}`, `De / ${label}`, 'v_D', 'bound levels', 'extrapolated', `MC median [16 %, 84 %] / ${label}`, 'in recommendation', 'note'];
     const rows = report.estimates.map((e) => {
       const mc = e.monte_carlo?.d0;
@@ -80,11 +122,10 @@ export class Results {
         ],
       };
     });
-    clear($('estimates')).append(table(head, rows, 'σ: one standard deviation from the data covariance (statistical only)'));
+    return table(head, rows, 'σ: one standard deviation from the data covariance (statistical only)');
   }
 
-  renderConstants(report, u, label) {
-    const c = report.constants;
+  constantsTables(c, m, u, label) {
     const rows = [];
     const add = (name, k) => {
       if (k) rows.push([name, { text: this.pm(k.value, k.sigma, u), class: 'num' }]);
@@ -93,19 +134,18 @@ export class Results {
     add('ωexe', c.wexe_cm1);
     add('ωeye', c.weye_cm1);
     add('ωeze', c.weze_cm1);
-    rows.push(['G(0) (zero point above the minimum)', { text: this.pm(c.zero_point_cm1.value, c.zero_point_cm1.sigma, u), class: 'num' }]);
-    const m = report.morse;
+    if (c.zero_point_cm1) rows.push(['G(0) (zero point above the minimum)', { text: this.pm(c.zero_point_cm1.value, c.zero_point_cm1.sigma, u), class: 'num' }]);
     if (m) {
       rows.push(['Morse De = ωe²/4ωexe', { text: this.pm(m.de_cm1?.value, m.de_cm1?.sigma, u), class: 'num' }]);
       if (m.a_per_angstrom) rows.push(['Morse a / Å⁻¹', { text: this.num(m.a_per_angstrom.value, m.a_per_angstrom.sigma), class: 'num' }]);
       if (m.force_constant_n_per_m) rows.push(['force constant k_e / N m⁻¹', { text: this.num(m.force_constant_n_per_m.value, m.force_constant_n_per_m.sigma), class: 'num' }]);
     }
-    const host = clear($('constants'));
-    host.append(table(['constant', `value / ${label}`], rows, `From the order-${c.order} fit of G(v); σ as used for every estimate`));
+    const out = [table(['constant', `value / ${label}`], rows, `From the order-${c.order} fit of G(v); σ as used for every estimate`)];
     if (c.correlation?.length > 1) {
       const names = c.dunham.map((d) => d.name ?? `Y${d.k}0`);
-      host.append(table(['', ...names], c.correlation.map((row, i) => [names[i], ...row.map((x) => ({ text: x.toFixed(3), class: 'num' }))]), 'Correlation of the Dunham coefficients'));
+      out.push(table(['', ...names], c.correlation.map((row, i) => [names[i], ...row.map((x) => ({ text: x.toFixed(3), class: 'num' }))]), 'Correlation of the Dunham coefficients'));
     }
+    return out;
   }
 
   renderOrders(report) {
@@ -127,7 +167,7 @@ export class Results {
     clear($('assumptions')).append(
       el('h3', {}, 'Each number rests on'), el('ul', {}, report.assumptions.map((a) => el('li', {}, a))),
       el('h3', {}, 'Conventions'), el('ul', {}, report.conventions.map((a) => el('li', {}, a))),
-      el('p', {}, `Uncertainty: ${report.uncertainty.note}`),
-      el('p', {}, `Monte Carlo: ${report.monte_carlo.ran ? `${report.monte_carlo.samples} draws, seed ${report.monte_carlo.seed} (${report.monte_carlo.generator})` : 'not run'} — ${report.monte_carlo.note}`));
+      report.uncertainty ? el('p', {}, `Uncertainty: ${report.uncertainty.note}`) : null,
+      report.monte_carlo ? el('p', {}, `Monte Carlo: ${report.monte_carlo.ran ? `${report.monte_carlo.samples} draws, seed ${report.monte_carlo.seed} (${report.monte_carlo.generator})` : 'not run'} — ${report.monte_carlo.note}`) : null);
   }
 }

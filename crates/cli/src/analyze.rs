@@ -8,7 +8,7 @@ use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::{Args, ValueEnum};
-use rungs_core::settings::MassSpec;
+use rungs_core::settings::{BandRotation, IsotopologueMasses, MassSpec, StateRotation};
 
 use crate::input::{ReadArgs, open_session};
 
@@ -24,7 +24,7 @@ pub enum Format {
 /// Arguments of `rungs analyze`.
 #[derive(Debug, Args)]
 pub struct AnalyzeArgs {
-    /// Table file (levels or spacings), a session document, or an exported analysis.
+    /// Table file (levels, spacings or bands), a session document, or an exported analysis.
     pub file: PathBuf,
     /// How to read the table.
     #[command(flatten)]
@@ -53,12 +53,57 @@ pub struct AnalyzeArgs {
     /// Number of top levels used by the near-dissociation fit.
     #[arg(long, value_name = "N")]
     pub lb_top: Option<u32>,
+    /// Bands: the two atoms of an isotopologue tag, e.g. `main=29.0,29.0` or `HCl=1H,35Cl`
+    /// (nuclide labels, or masses in u with a decimal point); repeatable.
+    #[arg(long = "isotopologue", value_name = "TAG=A,B")]
+    pub isotopologues: Vec<String>,
+    /// Bands: predict levels and band positions of this isotopologue (a tag); repeatable.
+    #[arg(long = "predict", value_name = "TAG")]
+    pub predict: Vec<String>,
+    /// Bands: the reference isotopologue (default: the one with the most bands).
+    #[arg(long, value_name = "TAG")]
+    pub reference: Option<String>,
+    /// Bands: excitation energy (cm⁻¹) of the upper state's atomic asymptote above the lower
+    /// state's, for D0″ = T00 + D0′ − E_atom.
+    #[arg(long, value_name = "E")]
+    pub atomic_excitation: Option<f64>,
+    /// Bands: upper-state rotational constants Be[,αe] in cm⁻¹ (with --b-lower: heads → origins).
+    #[arg(long, value_name = "BE[,ALPHA]", requires = "b_lower")]
+    pub b_upper: Option<String>,
+    /// Bands: lower-state rotational constants Be[,αe] in cm⁻¹.
+    #[arg(long, value_name = "BE[,ALPHA]", requires = "b_upper")]
+    pub b_lower: Option<String>,
+    /// Bands: σ (cm⁻¹) added to heads used as origins without rotational constants.
+    #[arg(long, value_name = "S")]
+    pub head_sigma: Option<f64>,
+    /// Bands: force the order of the upper state's G′(v).
+    #[arg(long, value_name = "K")]
+    pub upper_order: Option<u32>,
+    /// Bands: force the order of the lower state's G″(v).
+    #[arg(long, value_name = "K")]
+    pub lower_order: Option<u32>,
     /// Also write every figure as SVG into this folder (created if missing).
     #[arg(long, value_name = "DIR")]
     pub figures: Option<PathBuf>,
     /// Energy unit of the figures (cm-1, eV, kJ/mol, …).
     #[arg(long, value_name = "U", default_value = "cm-1")]
     pub figure_unit: String,
+}
+
+fn rotation(text: &str, flag: &str) -> Result<StateRotation, String> {
+    let (be, alpha) = match text.split_once(',') {
+        Some((b, a)) => (b, Some(a)),
+        None => (text, None),
+    };
+    let num = |t: &str| {
+        t.trim()
+            .parse::<f64>()
+            .map_err(|_| format!("{flag} '{text}': write Be or Be,alpha_e in cm-1"))
+    };
+    Ok(StateRotation {
+        be_cm1: num(be)?,
+        alpha_e_cm1: alpha.map(num).transpose()?.unwrap_or(0.0),
+    })
 }
 
 fn fail(message: impl std::fmt::Display) -> ExitCode {
@@ -102,17 +147,68 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
             b: b.trim().into(),
         });
     }
+    let b = &mut s.bands;
+    for spec in &args.isotopologues {
+        let parsed = spec
+            .split_once('=')
+            .and_then(|(t, ab)| ab.split_once(',').map(|(a, b)| (t, a, b)));
+        let Some((tag, a, bb)) = parsed else {
+            return fail(format!(
+                "--isotopologue '{spec}': write TAG=A,B, e.g. DCl=2H,35Cl"
+            ));
+        };
+        b.isotopologues.push(IsotopologueMasses {
+            tag: tag.trim().into(),
+            a: a.trim().into(),
+            b: bb.trim().into(),
+        });
+    }
+    b.predict.extend(args.predict.iter().cloned());
+    if let Some(t) = &args.reference {
+        b.reference = Some(t.clone());
+    }
+    if let Some(e) = args.atomic_excitation {
+        b.atomic_excitation_cm1 = Some(e);
+    }
+    if let (Some(u), Some(l)) = (&args.b_upper, &args.b_lower) {
+        match (rotation(u, "--b-upper"), rotation(l, "--b-lower")) {
+            (Ok(upper), Ok(lower)) => b.rotation = Some(BandRotation { upper, lower }),
+            (Err(e), _) | (_, Err(e)) => return fail(e),
+        }
+    }
+    if let Some(h) = args.head_sigma {
+        b.head_sigma_cm1 = h;
+    }
+    if let Some(k) = args.upper_order {
+        b.upper_order = Some(k);
+    }
+    if let Some(k) = args.lower_order {
+        b.lower_order = Some(k);
+    }
     let report = match rungs_core::analyze_session(&session, &mut |_, _| {}) {
         Ok(r) => r,
         Err(e) => return fail(format!("{}: {e}", args.file.display())),
     };
-    if let Some(dir) = &args.figures
-        && let Err(message) = write_figures(&report, dir, &args.figure_unit)
-    {
-        return fail(message);
+    if let Some(dir) = &args.figures {
+        // A band analysis has one set of figures per state, in subfolders.
+        let sets: Vec<(&rungs_core::Report, PathBuf)> = match &report {
+            rungs_core::Analysis::Levels(r) => vec![(r, dir.clone())],
+            rungs_core::Analysis::Bands(b) => [
+                (b.states.upper.as_ref(), "upper"),
+                (b.states.lower.as_ref(), "lower"),
+            ]
+            .into_iter()
+            .filter_map(|(r, sub)| r.map(|r| (r, dir.join(sub))))
+            .collect(),
+        };
+        for (r, d) in sets {
+            if let Err(message) = write_figures(r, &d, &args.figure_unit) {
+                return fail(message);
+            }
+        }
     }
     match args.format {
-        Format::Text => print!("{}", rungs_core::render_text(&report)),
+        Format::Text => print!("{}", report.render_text()),
         Format::Json => match report.to_json() {
             Ok(json) => println!("{json}"),
             Err(e) => {

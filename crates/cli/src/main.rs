@@ -30,9 +30,11 @@ enum Command {
     /// Show how a table is read (kind, column roles, units, rows used and excluded) and
     /// whether it is usable; exit 0 when usable, 2 when not.
     Check(check::CheckArgs),
-    /// Analyse levels or spacings: vibrational constants, order selection, and the
-    /// dissociation limit by every method, with statistical and model uncertainty.
-    Analyze(analyze::AnalyzeArgs),
+    /// Analyse levels or spacings (one state) or band positions (both states: Deslandres
+    /// array, term values, global fit, numbering check, isotopologues): vibrational constants,
+    /// order selection, and the dissociation limit by every method, with statistical and model
+    /// uncertainty.
+    Analyze(Box<analyze::AnalyzeArgs>),
     /// RKR and Morse turning points from ωe, ωexe, Be, αe, … (and the RKR curve solved back).
     Potential(potential::PotentialArgs),
     /// Bound levels of a pointwise potential curve (r, V table).

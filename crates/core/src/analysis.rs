@@ -164,7 +164,7 @@ fn policy_text(p: SigmaScaling) -> &'static str {
     }
 }
 
-fn check_settings(s: &AnalysisSettings, mu_u: Option<f64>) -> Result<()> {
+pub(crate) fn check_settings(s: &AnalysisSettings, mu_u: Option<f64>) -> Result<()> {
     if !(s.lb_n.is_finite() && s.lb_n > 2.0 && s.lb_n <= 50.0) {
         return Err(Error::parameter(
             "lb_n",

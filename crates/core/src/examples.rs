@@ -24,13 +24,16 @@ pub struct Example {
     pub text: &'static str,
     /// Reduced mass of the invented molecule, u.
     pub mu_u: f64,
+    /// A whole session document to open instead (for examples that need more settings, such as
+    /// isotopologue masses).
+    pub session_json: Option<&'static str>,
 }
 
 /// Reduced mass of the invented Qz2 (u).
 const QZ2_MU_U: f64 = 14.5;
 
 /// Every built-in example; the first is the page's opening demo.
-pub const EXAMPLES: [Example; 3] = [
+pub const EXAMPLES: [Example; 4] = [
     Example {
         id: "qz2-levels",
         title: "Qz2 (synthetic): levels up to 99.7 % of the well",
@@ -39,6 +42,7 @@ pub const EXAMPLES: [Example; 3] = [
         file_name: "qz2-levels.csv",
         text: include_str!("../data/demo/qz2-levels.csv"),
         mu_u: QZ2_MU_U,
+        session_json: None,
     },
     Example {
         id: "qz2-low-levels",
@@ -48,6 +52,7 @@ pub const EXAMPLES: [Example; 3] = [
         file_name: "qz2-low-levels.csv",
         text: include_str!("../data/demo/qz2-low-levels.csv"),
         mu_u: QZ2_MU_U,
+        session_json: None,
     },
     Example {
         id: "qz2-spacings",
@@ -56,6 +61,18 @@ pub const EXAMPLES: [Example; 3] = [
         file_name: "qz2-spacings.csv",
         text: include_str!("../data/demo/qz2-spacings.csv"),
         mu_u: QZ2_MU_U,
+        session_json: None,
+    },
+    Example {
+        id: "qz2-bands",
+        title: "Qz2 (synthetic): band positions of two isotopologues",
+        description: "Band origins ν(v′, v″) of an invented band system in two invented \
+                      isotopologues: both states' constants and limits, the numbering check \
+                      by isotope shifts, and D0″ by the energy cycle.",
+        file_name: "qz2-bands.csv",
+        text: include_str!("../data/demo/qz2-bands.csv"),
+        mu_u: QZ2_MU_U,
+        session_json: Some(include_str!("../data/demo/qz2-bands.session.json")),
     },
 ];
 
@@ -65,8 +82,12 @@ pub fn example(id: &str) -> Option<&'static Example> {
 }
 
 impl Example {
-    /// A fresh session holding this example with its reduced mass set.
+    /// A fresh session holding this example with its reduced mass set (or the example's own
+    /// session document, when it has one).
     pub fn session(&self) -> Session {
+        if let Some(session) = self.session_json.and_then(|j| Session::from_json(j).ok()) {
+            return session;
+        }
         let settings = AnalysisSettings {
             mass: Some(MassSpec::ReducedMass { mu_u: self.mu_u }),
             ..AnalysisSettings::default()
@@ -88,6 +109,14 @@ mod tests {
     #[test]
     fn examples_are_usable_and_marked_synthetic() {
         for e in &EXAMPLES {
+            if let Some(j) = e.session_json {
+                let s = Session::from_json(j).expect("example session reads");
+                assert_eq!(
+                    s.input.text, e.text,
+                    "{}: session holds the same table",
+                    e.id
+                );
+            }
             assert!(e.text.starts_with("# SYNTHETIC"), "{}", e.id);
             let data = e.session().data().unwrap();
             data.check_usable().unwrap();

@@ -12,6 +12,7 @@
 //! - energies are in cm⁻¹, distances in Å and masses in u inside core; names carry the unit.
 
 pub mod analysis;
+pub mod bands;
 pub mod constants;
 pub mod data;
 pub mod dunham;
@@ -35,8 +36,9 @@ pub mod spacings;
 pub mod units;
 
 pub use analysis::{analyze_levels, analyze_spacings};
+pub use bands::{BandReport, analyze_bands, render_band_text};
 pub use error::{Error, Result};
-pub use pipeline::analyze_session;
+pub use pipeline::{Analysis, analyze_session};
 pub use report::{Report, render_text};
 
 /// Version of the Rungs numerics, stamped into every report and exported document.

@@ -1,16 +1,90 @@
 //! From a session document to a report: the one path both the page and the command line take.
 //!
 //! A [`Session`] holds the input text, how it is read, and every setting. [`analyze_session`]
-//! reads the table, resolves the mass, dispatches on the kind of data, and returns the
-//! [`Report`] with the session and the fate of every input row attached, so an exported report
-//! can be re-imported and shows the rows that were left out and why.
+//! reads the table, resolves the mass, dispatches on the kind of data, and returns an
+//! [`Analysis`]: the single-state [`Report`] for levels and spacings, the two-state
+//! [`BandReport`] for band lists. Either carries the session and the fate of every input row, so
+//! an exported document can be re-imported and shows the rows that were left out and why.
 
+use serde::{Deserialize, Serialize};
+
+use crate::Result;
 use crate::analysis::{analyze_levels_with_progress, analyze_spacings_with_progress};
-use crate::intake::{DataKind, DataSet, RowStatus};
+use crate::bands::{BandReport, analyze_bands_with_progress, render_band_text};
+use crate::intake::{BandPositions, DataKind, DataSet, RowStatus};
 use crate::masses::reduced_mass_of;
-use crate::report::{ExcludedRow, Report, RowsSummary};
+use crate::report::{ExcludedRow, Report, RowsSummary, render_text};
 use crate::session::Session;
-use crate::{Error, Result};
+
+/// The result of [`analyze_session`]. Serialised without a wrapper: a levels or spacings analysis
+/// is the `rungs-analysis` document, a band analysis the `rungs-band-analysis` document
+/// (tell them apart by `format`).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(untagged)]
+pub enum Analysis {
+    /// One state: levels or spacings.
+    Levels(Box<Report>),
+    /// Two states: a band list.
+    Bands(Box<BandReport>),
+}
+
+impl Analysis {
+    /// Pretty JSON of the document.
+    pub fn to_json(&self) -> Result<String> {
+        match self {
+            Analysis::Levels(r) => r.to_json(),
+            Analysis::Bands(r) => r.to_json(),
+        }
+    }
+
+    /// Plain-text rendering for people.
+    pub fn render_text(&self) -> String {
+        match self {
+            Analysis::Levels(r) => render_text(r),
+            Analysis::Bands(r) => render_band_text(r),
+        }
+    }
+
+    /// The input rows not used, with reasons.
+    pub fn rows(&self) -> Option<&RowsSummary> {
+        match self {
+            Analysis::Levels(r) => r.rows.as_ref(),
+            Analysis::Bands(r) => r.rows.as_ref(),
+        }
+    }
+
+    /// The session that produced the document.
+    pub fn session(&self) -> Option<&Session> {
+        match self {
+            Analysis::Levels(r) => r.session.as_ref(),
+            Analysis::Bands(r) => r.session.as_ref(),
+        }
+    }
+
+    /// Warnings of the document (for bands: the band-level ones; each state has its own).
+    pub fn warnings(&self) -> &[String] {
+        match self {
+            Analysis::Levels(r) => &r.warnings,
+            Analysis::Bands(r) => &r.warnings,
+        }
+    }
+
+    /// The single-state report, when this is one.
+    pub fn as_levels(&self) -> Option<&Report> {
+        match self {
+            Analysis::Levels(r) => Some(r),
+            Analysis::Bands(_) => None,
+        }
+    }
+
+    /// The band report, when this is one.
+    pub fn as_bands(&self) -> Option<&BandReport> {
+        match self {
+            Analysis::Levels(_) => None,
+            Analysis::Bands(r) => Some(r),
+        }
+    }
+}
 
 /// Reduced mass (u) from the session's mass setting, when one is given.
 pub fn session_mu_u(session: &Session) -> Result<Option<f64>> {
@@ -59,30 +133,40 @@ pub fn rows_summary(data: &DataSet) -> RowsSummary {
 pub fn analyze_session(
     session: &Session,
     progress: &mut dyn FnMut(usize, usize),
-) -> Result<Report> {
+) -> Result<Analysis> {
     let data = session.data()?;
     data.check_usable()?;
     let mu_u = session_mu_u(session)?;
     let settings = &session.settings;
-    let mut report = match data.kind {
-        DataKind::Levels => {
-            analyze_levels_with_progress(&data.levels()?, None, mu_u, settings, progress)?
-        }
-        DataKind::Spacings => {
-            analyze_spacings_with_progress(&data.spacings()?, None, mu_u, settings, progress)?
-        }
-        DataKind::Bands => {
-            return Err(Error::Input {
-                message: "band lists are read and checked, but their analysis (term values of \
-                          both states) is not available in this version; give level energies \
-                          or spacings of one state"
-                    .into(),
-            });
-        }
+    let single = |mut report: Report| {
+        report.rows = Some(rows_summary(&data));
+        report.session = Some(session.clone());
+        Analysis::Levels(Box::new(report))
     };
-    report.rows = Some(rows_summary(&data));
-    report.session = Some(session.clone());
-    Ok(report)
+    Ok(match data.kind {
+        DataKind::Levels => single(analyze_levels_with_progress(
+            &data.levels()?,
+            None,
+            mu_u,
+            settings,
+            progress,
+        )?),
+        DataKind::Spacings => single(analyze_spacings_with_progress(
+            &data.spacings()?,
+            None,
+            mu_u,
+            settings,
+            progress,
+        )?),
+        DataKind::Bands => {
+            let positions = data.band_positions.unwrap_or(BandPositions::Origins);
+            let mut report =
+                analyze_bands_with_progress(&data.bands()?, positions, mu_u, settings, progress)?;
+            report.rows = Some(rows_summary(&data));
+            report.session = Some(session.clone());
+            Analysis::Bands(Box::new(report))
+        }
+    })
 }
 
 #[cfg(test)]
@@ -103,7 +187,8 @@ mod tests {
             ..Default::default()
         };
         let session = Session::new(text, None, intake, settings);
-        let report = analyze_session(&session, &mut |_, _| {}).unwrap();
+        let analysis = analyze_session(&session, &mut |_, _| {}).unwrap();
+        let report = analysis.as_levels().unwrap();
         let rows = report.rows.as_ref().unwrap();
         assert_eq!((rows.total, rows.used), (6, 4));
         assert_eq!(rows.excluded.len(), 2);

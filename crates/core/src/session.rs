@@ -115,6 +115,16 @@ impl Session {
         finite("curved_max_extrapolation", st.curved_max_extrapolation)?;
         finite("near_dissociation_coverage", st.near_dissociation_coverage)?;
         finite("outlier_threshold", st.outlier_threshold)?;
+        finite("bands.head_sigma_cm1", st.bands.head_sigma_cm1)?;
+        if let Some(e) = st.bands.atomic_excitation_cm1 {
+            finite("bands.atomic_excitation_cm1", e)?;
+        }
+        if let Some(r) = &st.bands.rotation {
+            finite("bands.rotation.upper.be_cm1", r.upper.be_cm1)?;
+            finite("bands.rotation.upper.alpha_e_cm1", r.upper.alpha_e_cm1)?;
+            finite("bands.rotation.lower.be_cm1", r.lower.be_cm1)?;
+            finite("bands.rotation.lower.alpha_e_cm1", r.lower.alpha_e_cm1)?;
+        }
         if let Some(cn) = st.lb_cn_cm1_an {
             finite("lb_cn_cm1_an", cn)?;
         }

@@ -112,6 +112,85 @@ pub struct AnalysisSettings {
     /// |studentized residual| above which a point is flagged as a possible outlier.
     #[serde(default = "default_outlier_threshold")]
     pub outlier_threshold: f64,
+    /// Choices that apply to band lists only (see [`BandSettings`]).
+    #[serde(default)]
+    pub bands: BandSettings,
+}
+
+/// Default σ (cm⁻¹) added in quadrature to band heads used as origins when no rotational
+/// constants are given (see [`BandSettings::head_sigma_cm1`]).
+pub const DEFAULT_HEAD_SIGMA_CM1: f64 = 1.0;
+
+/// Rotational constants of one electronic state: B_v = Be − αe (v + ½), for the reference
+/// isotopologue (other isotopologues scale as Be ρ², αe ρ³).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct StateRotation {
+    /// Be, cm⁻¹.
+    pub be_cm1: f64,
+    /// αe, cm⁻¹ (0 when not given).
+    #[serde(default)]
+    pub alpha_e_cm1: f64,
+}
+
+/// Rotational constants of both states of a band system, used to correct band heads to origins.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct BandRotation {
+    /// Upper state.
+    pub upper: StateRotation,
+    /// Lower state.
+    pub lower: StateRotation,
+}
+
+/// The two atoms of an isotopologue tag, as nuclide labels (`35Cl`, `D`) or masses in u written
+/// with a decimal point (`29.0`).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct IsotopologueMasses {
+    /// The tag as it appears in the isotopologue column (or a new one, for predictions).
+    pub tag: String,
+    /// First atom.
+    pub a: String,
+    /// Second atom.
+    pub b: String,
+}
+
+/// Choices that apply to band lists (ν(v′, v″) of one band system, possibly several
+/// isotopologues). Every field has a default; documents without them read as the defaults.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
+pub struct BandSettings {
+    /// Rotational constants of both states; with band heads, they turn heads into origins.
+    pub rotation: Option<BandRotation>,
+    /// σ (cm⁻¹) added in quadrature to every band head used as an origin when no rotational
+    /// constants are given.
+    pub head_sigma_cm1: f64,
+    /// Excitation energy (cm⁻¹) of the atomic asymptote of the upper state above the lower
+    /// state's asymptote; gives the lower state's D0″ from the upper state's convergence limit.
+    pub atomic_excitation_cm1: Option<f64>,
+    /// Atoms of isotopologue tags that are not written as two nuclide labels.
+    pub isotopologues: Vec<IsotopologueMasses>,
+    /// Isotopologues to predict levels and band positions for (tags, resolved like data tags).
+    pub predict: Vec<String>,
+    /// Reference isotopologue (its tag); `None`: the one with the most bands.
+    pub reference: Option<String>,
+    /// Force the order of the upper state's G′(v) (global fit and level analysis).
+    pub upper_order: Option<u32>,
+    /// Force the order of the lower state's G″(v) (global fit and level analysis).
+    pub lower_order: Option<u32>,
+}
+
+impl Default for BandSettings {
+    fn default() -> Self {
+        Self {
+            rotation: None,
+            head_sigma_cm1: DEFAULT_HEAD_SIGMA_CM1,
+            atomic_excitation_cm1: None,
+            isotopologues: Vec::new(),
+            predict: Vec::new(),
+            reference: None,
+            upper_order: None,
+            lower_order: None,
+        }
+    }
 }
 
 fn default_max_order() -> u32 {
@@ -146,6 +225,7 @@ impl Default for AnalysisSettings {
             curved_max_extrapolation: default_curved_max_extrapolation(),
             near_dissociation_coverage: default_near_dissociation_coverage(),
             outlier_threshold: default_outlier_threshold(),
+            bands: BandSettings::default(),
         }
     }
 }

@@ -117,7 +117,11 @@ fn check_invariants(text: &str, d: &DataSet) {
     let mut quoted_until = 0;
     for (i, line) in lines.iter().enumerate() {
         let n = i + 1;
-        let comment = line.trim_start().starts_with('#');
+        // Intake counts a byte-order mark or zero-width space as blank space (a stray BOM
+        // where two files were pasted together), so a line starting with one then `#` is a comment.
+        let comment = line
+            .trim_start_matches(|c: char| c.is_whitespace() || matches!(c, '\u{feff}' | '\u{200b}'))
+            .starts_with('#');
         if covered.contains(&n) {
             // A record that spans lines covers its continuation lines too.
             if let Some(row) = d.rows.iter().find(|r| r.line == n) {
@@ -306,4 +310,14 @@ fn valid_seeds_read_and_are_usable() {
         run(VALID[0], &opts);
         assert_eq!(Unit::parse(u.token()).ok(), Some(u));
     }
+}
+
+/// Regression (found by the mutation test): a byte-order mark in the middle of the text, in
+/// front of a `#` comment line, leaves that line a comment and loses nothing.
+#[test]
+fn stray_byte_order_mark_before_a_comment_is_still_a_comment() {
+    let text = "v,E,sigma\n0,0,0.1\n\u{feff}# SYNTHETIC molecule\n1,990,0.1\n2,1960,0.1\n";
+    let d = read_table(text, &IntakeOptions::default()).expect("reads");
+    assert_eq!(d.usable_count(), 3);
+    check_invariants(text, &d);
 }

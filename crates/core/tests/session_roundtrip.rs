@@ -10,7 +10,10 @@ use rungs_core::intake::{
     UserExclusion, read_table,
 };
 use rungs_core::session::Session;
-use rungs_core::settings::{AnalysisSettings, MassSpec, SigmaScaling};
+use rungs_core::settings::{
+    AnalysisSettings, BandRotation, BandSettings, IsotopologueMasses, MassSpec, SigmaScaling,
+    StateRotation,
+};
 use rungs_core::units::ALL_UNITS;
 
 fn finite_f64() -> impl Strategy<Value = f64> {
@@ -23,6 +26,57 @@ fn finite_f64() -> impl Strategy<Value = f64> {
         Just(f64::MAX),
         Just(0.1 + 0.2),
     ]
+}
+
+fn band_settings() -> impl Strategy<Value = BandSettings> {
+    let rotation =
+        (finite_f64(), finite_f64(), finite_f64(), finite_f64()).prop_map(|(bu, au, bl, al)| {
+            BandRotation {
+                upper: StateRotation {
+                    be_cm1: bu,
+                    alpha_e_cm1: au,
+                },
+                lower: StateRotation {
+                    be_cm1: bl,
+                    alpha_e_cm1: al,
+                },
+            }
+        });
+    (
+        prop::option::of(rotation),
+        finite_f64(),
+        prop::option::of(finite_f64()),
+        prop::collection::vec(
+            (any::<String>(), any::<String>(), any::<String>())
+                .prop_map(|(tag, a, b)| IsotopologueMasses { tag, a, b }),
+            0..3,
+        ),
+        prop::collection::vec(any::<String>(), 0..3),
+        prop::option::of(any::<String>()),
+        prop::option::of(any::<u32>()),
+        prop::option::of(any::<u32>()),
+    )
+        .prop_map(
+            |(
+                rotation,
+                head_sigma_cm1,
+                atomic_excitation_cm1,
+                isotopologues,
+                predict,
+                reference,
+                upper_order,
+                lower_order,
+            )| BandSettings {
+                rotation,
+                head_sigma_cm1,
+                atomic_excitation_cm1,
+                isotopologues,
+                predict,
+                reference,
+                upper_order,
+                lower_order,
+            },
+        )
 }
 
 fn settings() -> impl Strategy<Value = AnalysisSettings> {
@@ -51,6 +105,7 @@ fn settings() -> impl Strategy<Value = AnalysisSettings> {
             finite_f64(),
             finite_f64(),
         ),
+        band_settings(),
     )
         .prop_map(
             |(
@@ -64,6 +119,7 @@ fn settings() -> impl Strategy<Value = AnalysisSettings> {
                     near_dissociation_coverage,
                     outlier_threshold,
                 ),
+                bands,
             )| AnalysisSettings {
                 mc_samples,
                 seed,
@@ -78,6 +134,7 @@ fn settings() -> impl Strategy<Value = AnalysisSettings> {
                 curved_max_extrapolation,
                 near_dissociation_coverage,
                 outlier_threshold,
+                bands,
             },
         )
 }

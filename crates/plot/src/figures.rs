@@ -4,7 +4,10 @@
 //! limits) and rescales energies to the display unit with core's conversion factor; nothing
 //! physical is computed here.
 
+use rungs_core::bands::array::{CellFlag, DeslandresArray};
+use rungs_core::pipeline::Analysis;
 use rungs_core::report::Report;
+use rungs_core::session::Session;
 use rungs_core::units::Unit;
 
 use crate::{Dash, Layer, Legend, Mark, Point, Shape, XyChart};
@@ -18,7 +21,10 @@ pub const FIGURES: [(&str, &str); 5] = [
         "Near-dissociation (LeRoy–Bernstein) linearised plot",
     ),
     ("levels", "Levels G(v) with model curves"),
-    ("ladder", "Level ladder and dissociation limits"),
+    (
+        "ladder",
+        "Top of the well: last levels and each method's limit",
+    ),
 ];
 
 /// Palette index and marker for a method, fixed so a method keeps its look in every figure.
@@ -427,4 +433,187 @@ pub fn ladder(report: &Report, scale: EnergyScale) -> XyChart {
         legend: Legend::LowerRight,
         x_ticks: false,
     }
+}
+
+/// Figures of a whole analysis, `(id, title)`: a single state's figures as in [`FIGURES`], or for
+/// a band list the Deslandres array followed by each state's figures, ids prefixed `upper:` and
+/// `lower:`.
+pub fn analysis_figures(analysis: &Analysis) -> Vec<(String, String)> {
+    let of = |r: &Report, prefix: &str, who: &str| -> Vec<(String, String)> {
+        FIGURES
+            .iter()
+            .filter(|(id, _)| figure(r, id, EnergyScale::cm1()).is_some())
+            .map(|(id, title)| (format!("{prefix}{id}"), format!("{who}{title}")))
+            .collect()
+    };
+    match analysis {
+        Analysis::Levels(r) => of(r, "", ""),
+        Analysis::Bands(b) => {
+            let mut list: Vec<(String, String)> = (0..b.arrays.len())
+                .map(|i| {
+                    let tag = b.arrays[i].isotopologue.as_deref().unwrap_or("");
+                    let title = if tag.is_empty() {
+                        "Band array (Deslandres) with flagged cells".to_string()
+                    } else {
+                        format!("Band array (Deslandres) of {tag} with flagged cells")
+                    };
+                    (format!("array:{i}"), title)
+                })
+                .collect();
+            if let Some(u) = &b.states.upper {
+                list.extend(of(u, "upper:", "Upper state: "));
+            }
+            if let Some(l) = &b.states.lower {
+                list.extend(of(l, "lower:", "Lower state: "));
+            }
+            list
+        }
+    }
+}
+
+/// Figure `id` (from [`analysis_figures`]) of an analysis, energies in `scale`.
+pub fn analysis_figure(analysis: &Analysis, id: &str, scale: EnergyScale) -> Option<XyChart> {
+    match analysis {
+        Analysis::Levels(r) => figure(r, id, scale),
+        Analysis::Bands(b) => {
+            if let Some(i) = id.strip_prefix("array:") {
+                let array = b.arrays.get(i.parse::<usize>().ok()?)?;
+                return Some(band_array(array, scale, b.session.as_ref()));
+            }
+            let (state, rest) = id.split_once(':')?;
+            let report = match state {
+                "upper" => b.states.upper.as_ref()?,
+                "lower" => b.states.lower.as_ref()?,
+                _ => return None,
+            };
+            let mut chart = figure(report, rest, scale)?;
+            chart.title = format!(
+                "{} state: {}",
+                if state == "upper" { "Upper" } else { "Lower" },
+                chart.title
+            );
+            Some(chart)
+        }
+    }
+}
+
+/// The Deslandres array as a map: each observed band at (v′, v″); a cell that breaks two
+/// difference chains (or is otherwise flagged) is drawn as a cross, gaps are empty.
+pub fn band_array(
+    array: &DeslandresArray,
+    scale: EnergyScale,
+    session: Option<&Session>,
+) -> XyChart {
+    let mut ok = Vec::new();
+    let mut flagged = Vec::new();
+    let mut unchecked = Vec::new();
+    for cell in array.cells.iter().flatten().flatten() {
+        let residual = cell
+            .residual_cm1
+            .map(|r| format!(", term-value residual {:.4} {}", scale.e(r), scale.label))
+            .unwrap_or_default();
+        let flags: Vec<&str> = cell.flags.iter().map(|f| f.describe()).collect();
+        let point = Point {
+            x: cell.v_upper as f64,
+            y: cell.v_lower as f64,
+            y_err: None,
+            included: !cell.flags.contains(&CellFlag::Unchecked),
+            tag: format!(
+                "ν({}, {}) = {:.4} {}{}{}",
+                cell.v_upper,
+                cell.v_lower,
+                scale.e(cell.position_cm1),
+                scale.label,
+                residual,
+                if flags.is_empty() {
+                    String::new()
+                } else {
+                    format!(" — {}", flags.join("; "))
+                }
+            ),
+        };
+        if cell
+            .flags
+            .iter()
+            .any(|f| matches!(f, CellFlag::BreaksTwoChains | CellFlag::Inconsistent))
+        {
+            flagged.push(point);
+        } else if cell.flags.is_empty() {
+            ok.push(point);
+        } else {
+            unchecked.push(point);
+        }
+    }
+    let mut layers = vec![Layer {
+        label: "band observed, consistent".into(),
+        colour: 1,
+        mark: Mark::Points {
+            points: ok,
+            shape: Shape::Square,
+        },
+    }];
+    if !unchecked.is_empty() {
+        layers.push(Layer {
+            label: "cannot be checked".into(),
+            colour: 0,
+            mark: Mark::Points {
+                points: unchecked,
+                shape: Shape::Circle,
+            },
+        });
+    }
+    if !flagged.is_empty() {
+        layers.push(Layer {
+            label: "flagged: breaks difference chains".into(),
+            colour: 2,
+            mark: Mark::Points {
+                points: flagged,
+                shape: Shape::Cross,
+            },
+        });
+    }
+    let span = |v: &[u32]| {
+        let lo = v.iter().copied().min().unwrap_or(0) as f64;
+        let hi = v.iter().copied().max().unwrap_or(0) as f64;
+        (lo - 0.7, hi + 0.7)
+    };
+    let synthetic = session.is_some_and(|s| s.input.text.contains("SYNTHETIC"));
+    XyChart {
+        title: match &array.isotopologue {
+            Some(t) => format!("Band array of {t}: (v′, v″) cells"),
+            None => "Band array: (v′, v″) cells".into(),
+        },
+        x_label: "v′ (upper state)".into(),
+        y_label: "v″ (lower state)".into(),
+        layers,
+        x_range: Some(span(&array.v_upper)),
+        y_range: Some(span(&array.v_lower)),
+        note: format!(
+            "{}{} flagged of {} bands; rows of constant v″ give ΔG′ differences, columns of constant v′ give ΔG″",
+            if synthetic { "SYNTHETIC data · " } else { "" },
+            array.flagged.len(),
+            array.cells.iter().flatten().flatten().count()
+        ),
+        legend: Legend::UpperRight,
+        x_ticks: true,
+    }
+}
+
+/// A short tab label for a figure id of [`analysis_figures`].
+pub fn short_label(id: &str) -> String {
+    let (prefix, rest) = match id.split_once(':') {
+        Some(("upper", r)) => ("upper ", r),
+        Some(("lower", r)) => ("lower ", r),
+        Some(("array", _)) => return "band array".into(),
+        _ => ("", id),
+    };
+    let name = match rest {
+        "spacings" => "ΔG",
+        "residuals" => "residuals",
+        "near-limit" => "near limit",
+        "levels" => "G(v)",
+        "ladder" => "top of well",
+        other => other,
+    };
+    format!("{prefix}{name}")
 }

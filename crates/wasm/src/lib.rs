@@ -208,7 +208,7 @@ enum ReadingChange {
 pub struct Workbench {
     session: Option<Session>,
     data: Option<DataSet>,
-    report: Option<rungs_core::Report>,
+    report: Option<rungs_core::pipeline::Analysis>,
 }
 
 impl Default for Workbench {
@@ -414,18 +414,17 @@ impl Workbench {
         Ok(json)
     }
 
-    /// The figures the last analysis offers: `[[id, title]]`.
+    /// The figures the last analysis offers: `[[id, title, short label]]`.
     pub fn figure_list(&self) -> Result<JsValue, JsError> {
-        let report = self
+        let analysis = self
             .report
             .as_ref()
             .ok_or_else(|| js_err("no analysis yet"))?;
-        let list: Vec<(&str, &str)> = rungs_plot::figures::FIGURES
-            .iter()
-            .copied()
-            .filter(|(id, _)| {
-                rungs_plot::figures::figure(report, id, rungs_plot::figures::EnergyScale::cm1())
-                    .is_some()
+        let list: Vec<(String, String, String)> = rungs_plot::figures::analysis_figures(analysis)
+            .into_iter()
+            .map(|(id, title)| {
+                let short = rungs_plot::figures::short_label(&id);
+                (id, title, short)
             })
             .collect();
         to_js(&list)
@@ -434,16 +433,25 @@ impl Workbench {
     /// Figure `id` of the last analysis, energies in `unit`, as a chart description (JSON) for
     /// the main thread's [`Chart`].
     pub fn figure(&self, id: &str, unit: &str) -> Result<String, JsError> {
-        let report = self
+        let analysis = self
             .report
             .as_ref()
             .ok_or_else(|| js_err("no analysis yet"))?;
         let u = Unit::parse(unit).map_err(js_err)?;
         let scale = rungs_plot::figures::EnergyScale::of(u)
             .ok_or_else(|| js_err(format!("'{unit}' is not an energy unit")))?;
-        let chart = rungs_plot::figures::figure(report, id, scale)
+        let chart = rungs_plot::figures::analysis_figure(analysis, id, scale)
             .ok_or_else(|| js_err(format!("no figure '{id}' for this analysis")))?;
         serde_json::to_string(&chart).map_err(js_err)
+    }
+
+    /// The plain-text report of the last analysis (the command line's text format).
+    pub fn report_text(&self) -> Result<String, JsError> {
+        Ok(self
+            .report
+            .as_ref()
+            .ok_or_else(|| js_err("no analysis yet"))?
+            .render_text())
     }
 
     /// The current analysis settings.
