@@ -445,15 +445,6 @@ impl Workbench {
         serde_json::to_string(&chart).map_err(js_err)
     }
 
-    /// The plain-text report of the last analysis (the command line's text format).
-    pub fn report_text(&self) -> Result<String, JsError> {
-        Ok(self
-            .report
-            .as_ref()
-            .ok_or_else(|| js_err("no analysis yet"))?
-            .render_text())
-    }
-
     /// The current analysis settings.
     pub fn settings(&self) -> Result<JsValue, JsError> {
         to_js(&self.current()?.0.settings)
