@@ -50,6 +50,9 @@ pub struct AnalyzeArgs {
     /// Use this polynomial order for G(v) instead of the recommended one.
     #[arg(long, value_name = "K")]
     pub order: Option<u32>,
+    /// Highest polynomial order tried for G(v) (default 6).
+    #[arg(long, value_name = "K")]
+    pub max_order: Option<u32>,
     /// Number of top levels used by the near-dissociation fit.
     #[arg(long, value_name = "N")]
     pub lb_top: Option<u32>,
@@ -129,6 +132,9 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
     }
     if let Some(k) = args.order {
         s.order = Some(k);
+    }
+    if let Some(k) = args.max_order {
+        s.max_order = k;
     }
     if let Some(t) = args.lb_top {
         s.lb_top_levels = Some(t);

@@ -1346,6 +1346,8 @@ fn run(
         },
         warnings,
         plot,
+        potential: None,
+        potential_note: None,
         rows: None,
         session: None,
     })

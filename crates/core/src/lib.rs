@@ -13,6 +13,7 @@
 
 pub mod analysis;
 pub mod bands;
+pub mod closing;
 pub mod constants;
 pub mod data;
 pub mod dunham;

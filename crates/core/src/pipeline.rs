@@ -144,13 +144,15 @@ pub fn analyze_session(
         Analysis::Levels(Box::new(report))
     };
     Ok(match data.kind {
-        DataKind::Levels => single(analyze_levels_with_progress(
-            &data.levels()?,
-            None,
-            mu_u,
-            settings,
-            progress,
-        )?),
+        DataKind::Levels => {
+            let levels = data.levels()?;
+            let mut report = analyze_levels_with_progress(&levels, None, mu_u, settings, progress)?;
+            match crate::closing::close_the_loop(&report, &levels, mu_u) {
+                Ok(p) => report.potential = Some(p),
+                Err(why) => report.potential_note = Some(why),
+            }
+            single(report)
+        }
         DataKind::Spacings => single(analyze_spacings_with_progress(
             &data.spacings()?,
             None,

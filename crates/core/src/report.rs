@@ -401,6 +401,13 @@ pub struct Report {
     pub warnings: Vec<String>,
     /// Plot series.
     pub plot: PlotData,
+    /// The RKR potential built from the constants and the given B_v, its levels, and the
+    /// observed − calculated check (from [`crate::pipeline`]; see [`crate::closing`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub potential: Option<crate::closing::PotentialOut>,
+    /// Why there is no potential curve.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub potential_note: Option<String>,
     /// Every input row that was not used, with its reason (from [`crate::pipeline`]).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub rows: Option<RowsSummary>,
