@@ -111,8 +111,29 @@ pub fn close_the_loop(
     };
     // RKR up to the highest observed level, or lower where the polynomial G(v) flattens out
     // (near its maximum the Klein integrals lose meaning); the extension covers the rest.
+    // The turning points are kept where the polynomial's slope dG/dv is still at least a quarter
+    // of its value at the bottom: closer to its maximum a polynomial G(v) bends over faster than
+    // real levels do, and the Klein integrals turn that into a spurious inner-wall turnover.
     let v_obs_top = observed.iter().map(|l| l.v).max().unwrap_or(0);
-    let v_top = f64::from(v_obs_top.min(input.default_v_max().map_err(|e| e.to_string())?));
+    let slope = |v: f64| -> f64 {
+        input
+            .g_cm1
+            .iter()
+            .enumerate()
+            .skip(1)
+            .map(|(k, y)| k as f64 * y * (v + 0.5).powi(k as i32 - 1))
+            .sum()
+    };
+    let slope0 = slope(input.v_min().map_err(|e| e.to_string())?);
+    let steep = (0..=v_obs_top)
+        .take_while(|&v| slope(f64::from(v)) >= 0.25 * slope0)
+        .last()
+        .unwrap_or(0);
+    let v_top = f64::from(
+        v_obs_top
+            .min(steep)
+            .min(input.default_v_max().map_err(|e| e.to_string())?),
+    );
     let vs: Vec<f64> = observed
         .iter()
         .map(|l| l.v as f64)
@@ -251,10 +272,9 @@ mod tests {
         let Analysis::Levels(report) = analyze_session(&session, &mut |_, _| {}).unwrap() else {
             panic!("a level list gives a single-state report");
         };
-        let p = report
-            .potential
-            .as_ref()
-            .expect(report.potential_note.as_deref().unwrap_or("?"));
+        let Some(p) = report.potential.as_ref() else {
+            panic!("no potential: {:?}", report.potential_note);
+        };
         assert!((p.re_angstrom - 1.5).abs() < 1e-4, "re = {}", p.re_angstrom);
         assert!(p.inner_turnover_v.is_none(), "{:?}", p.warnings);
         assert_eq!(p.check.rows.len(), 31);
