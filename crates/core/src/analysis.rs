@@ -1349,6 +1349,8 @@ fn run(
         potential: None,
         potential_note: None,
         rows: None,
+        input_sha256: None,
+        methods: None,
         session: None,
     })
 }

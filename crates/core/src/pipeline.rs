@@ -143,7 +143,7 @@ pub fn analyze_session(
         report.session = Some(session.clone());
         Analysis::Levels(Box::new(report))
     };
-    Ok(match data.kind {
+    let mut analysis = match data.kind {
         DataKind::Levels => {
             let levels = data.levels()?;
             let mut report = analyze_levels_with_progress(&levels, None, mu_u, settings, progress)?;
@@ -168,7 +168,20 @@ pub fn analyze_session(
             report.session = Some(session.clone());
             Analysis::Bands(Box::new(report))
         }
-    })
+    };
+    let methods = crate::methods::methods(&analysis);
+    let hash = crate::methods::sha256_hex(&session.input.text);
+    match &mut analysis {
+        Analysis::Levels(r) => {
+            r.methods = Some(methods);
+            r.input_sha256 = Some(hash);
+        }
+        Analysis::Bands(b) => {
+            b.methods = Some(methods);
+            b.input_sha256 = Some(hash);
+        }
+    }
+    Ok(analysis)
 }
 
 #[cfg(test)]

@@ -411,6 +411,12 @@ pub struct Report {
     /// Every input row that was not used, with its reason (from [`crate::pipeline`]).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub rows: Option<RowsSummary>,
+    /// SHA-256 of the input text (hex), so a result can be tied to the exact data it came from.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub input_sha256: Option<String>,
+    /// A methods paragraph naming the published methods used, with references.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub methods: Option<crate::methods::Methods>,
     /// The session that produced this report: input text, reading choices, settings. Present
     /// when the analysis started from a session, so the document can be re-imported.
     #[serde(default, skip_serializing_if = "Option::is_none")]

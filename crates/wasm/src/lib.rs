@@ -168,6 +168,8 @@ struct RowDto<'a> {
     status: RowStatus,
     reasons: Vec<String>,
     observation: &'a Option<intake::Observation>,
+    /// σ the user typed for this row (value column's unit), if any.
+    sigma_edited: Option<f64>,
 }
 
 /// A change to how the table is read, sent by the page.
@@ -200,6 +202,10 @@ enum ReadingChange {
     },
     Include {
         row: usize,
+    },
+    Sigma {
+        row: usize,
+        sigma: Option<f64>,
     },
 }
 
@@ -340,6 +346,11 @@ impl Workbench {
                     )
                     .collect(),
                 observation: &r.observation,
+                sigma_edited: data
+                    .sigma_edits
+                    .iter()
+                    .find(|e| e.row == r.line)
+                    .map(|e| e.sigma),
             })
             .collect();
         to_js(&rows)
@@ -384,6 +395,11 @@ impl Workbench {
             }
             ReadingChange::Exclude { row, reason } => o.exclude(row, reason),
             ReadingChange::Include { row } => o.include(row),
+            ReadingChange::Sigma {
+                row,
+                sigma: Some(x),
+            } => o.set_sigma(row, x),
+            ReadingChange::Sigma { row, sigma: None } => o.clear_sigma(row),
         }
         self.install(session)
     }
@@ -443,6 +459,24 @@ impl Workbench {
         let chart = rungs_plot::figures::analysis_figure(analysis, id, scale)
             .ok_or_else(|| js_err(format!("no figure '{id}' for this analysis")))?;
         serde_json::to_string(&chart).map_err(js_err)
+    }
+
+    /// Tables of the last analysis that can be exported as CSV: `[[id, title]]`.
+    pub fn table_list(&self) -> Result<JsValue, JsError> {
+        let analysis = self
+            .report
+            .as_ref()
+            .ok_or_else(|| js_err("no analysis yet"))?;
+        to_js(&rungs_core::export::tables(analysis))
+    }
+
+    /// Table `id` of the last analysis as CSV text (energies in cm⁻¹, full precision).
+    pub fn table_csv(&self, id: &str) -> Result<String, JsError> {
+        let analysis = self
+            .report
+            .as_ref()
+            .ok_or_else(|| js_err("no analysis yet"))?;
+        rungs_core::export::table_csv(analysis, self.data.as_ref(), id).map_err(js_err)
     }
 
     /// The current analysis settings.
