@@ -338,7 +338,7 @@ pub struct Linearised {
 }
 
 /// Everything the page needs to draw.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
 pub struct PlotData {
     /// Spacings at x = v + ½ with σ.
     pub spacings: Vec<PlotPoint>,
