@@ -13,11 +13,19 @@ fn file(rel: &str) -> String {
 }
 
 fn rungs(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_rungs")).args(args).output().expect("run rungs")
+    Command::new(env!("CARGO_BIN_EXE_rungs"))
+        .args(args)
+        .output()
+        .expect("run rungs")
 }
 
 fn json(o: &Output) -> serde_json::Value {
-    assert_eq!(o.status.code(), Some(0), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
     serde_json::from_slice(&o.stdout).expect("valid JSON")
 }
 
@@ -36,14 +44,33 @@ fn morse_levels_give_the_closed_form_limit_in_the_json() {
     ]));
     assert_eq!(v["format"], "rungs-analysis");
     let est = v["estimates"].as_array().expect("estimates");
-    let bs = est.iter().find(|e| e["method"] == "birge-sponer-linear").expect("linear BS");
+    let bs = est
+        .iter()
+        .find(|e| e["method"] == "birge-sponer-linear")
+        .expect("linear BS");
     assert!((bs["v_d"].as_f64().unwrap() - 49.5).abs() < 1e-6, "{bs}");
-    assert!((bs["d0_cm1"].as_f64().unwrap() - 24_502.5).abs() < 1e-4, "{bs}");
+    assert!(
+        (bs["d0_cm1"].as_f64().unwrap() - 24_502.5).abs() < 1e-4,
+        "{bs}"
+    );
     assert_eq!(bs["n_bound"], 50);
-    assert!(bs["d0_sigma_cm1"].as_f64().is_some() && bs["extrapolated_fraction"].as_f64().is_some());
+    assert!(
+        bs["d0_sigma_cm1"].as_f64().is_some() && bs["extrapolated_fraction"].as_f64().is_some()
+    );
     for m in ["observed-sum", "birge-sponer-curved", "leroy-bernstein"] {
-        let e = est.iter().find(|e| e["method"] == m).unwrap_or_else(|| panic!("{m} listed"));
-        for field in ["d0_cm1", "d0_sigma_cm1", "de_cm1", "v_d", "n_bound", "extrapolated_fraction", "reason"] {
+        let e = est
+            .iter()
+            .find(|e| e["method"] == m)
+            .unwrap_or_else(|| panic!("{m} listed"));
+        for field in [
+            "d0_cm1",
+            "d0_sigma_cm1",
+            "de_cm1",
+            "v_d",
+            "n_bound",
+            "extrapolated_fraction",
+            "reason",
+        ] {
             assert!(e.get(field).is_some(), "{m} has {field}");
         }
     }
@@ -57,7 +84,9 @@ fn morse_levels_give_the_closed_form_limit_in_the_json() {
     let levels = v["levels"].as_array().expect("levels");
     assert_eq!(levels.len(), 21);
     assert_eq!(levels[3]["v"], 3);
-    assert!(levels[3]["energy_cm1"].as_f64().is_some() && levels[3]["sigma_cm1"].as_f64().is_some());
+    assert!(
+        levels[3]["energy_cm1"].as_f64().is_some() && levels[3]["sigma_cm1"].as_f64().is_some()
+    );
 }
 
 /// The exported document re-imports: analysing the JSON it printed gives the same numbers
@@ -85,7 +114,12 @@ fn exported_analysis_reimports_to_the_same_result() {
     assert_eq!(a["rows"]["excluded"][0]["reason"], "suspected blend");
     let path = dir.join("exported.json");
     std::fs::write(&path, &first.stdout).unwrap();
-    let b = json(&rungs(&["analyze", path.to_str().unwrap(), "--format", "json"]));
+    let b = json(&rungs(&[
+        "analyze",
+        path.to_str().unwrap(),
+        "--format",
+        "json",
+    ]));
     assert_eq!(a["estimates"], b["estimates"]);
     assert_eq!(a["recommended"], b["recommended"]);
     assert_eq!(b["settings"]["seed"], 7);
@@ -93,10 +127,20 @@ fn exported_analysis_reimports_to_the_same_result() {
 
 #[test]
 fn text_report_states_the_limits_and_conventions() {
-    let o = rungs(&["analyze", &file("crates/core/data/demo/qz2-levels.csv"), "--mc", "0"]);
+    let o = rungs(&[
+        "analyze",
+        &file("crates/core/data/demo/qz2-levels.csv"),
+        "--mc",
+        "0",
+    ]);
     let out = String::from_utf8_lossy(&o.stdout);
     assert_eq!(o.status.code(), Some(0));
-    for fragment in ["model-dependent estimates", "Recommended", "ΔG_{v+½} = G(v+1) − G(v)", "Assumptions"] {
+    for fragment in [
+        "model-dependent estimates",
+        "Recommended",
+        "ΔG_{v+½} = G(v+1) − G(v)",
+        "Assumptions",
+    ] {
         assert!(out.contains(fragment), "missing '{fragment}'");
     }
 }
@@ -106,6 +150,11 @@ fn unusable_input_exits_2_with_a_reason() {
     let o = rungs(&["analyze", &file("tests/intake/bad/01_empty.csv")]);
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("rungs analyze:"));
-    let o = rungs(&["analyze", &file("tests/cli/morse_vector_a_levels.csv"), "--masses", "1H"]);
+    let o = rungs(&[
+        "analyze",
+        &file("tests/cli/morse_vector_a_levels.csv"),
+        "--masses",
+        "1H",
+    ]);
     assert_eq!(o.status.code(), Some(2));
 }
