@@ -332,6 +332,11 @@ def fmt_t(s):
     return f"{s * 1e3:.3g} ms" if s >= 1e-3 else f"{s * 1e6:.3g} µs"
 
 
+def fmt_ratio(r):
+    """How many times faster Rungs is; below 1 it is slower (shown as a fraction)."""
+    return f"{r:.0f}×" if r >= 10 else f"{r:.2g}×"
+
+
 def compare(args):
     with open(args.rust) as f:
         rust = json.load(f)
@@ -457,7 +462,7 @@ def compare(args):
     print()
     print(f"{'problem':<78} {'Rungs':>10} {'NumPy/SciPy':>12} {'ratio':>8}")
     for name, t_r, t_p, how in rows:
-        print(f"{name:<78} {fmt_t(t_r):>10} {fmt_t(t_p):>12} {t_p / t_r:>7.0f}×")
+        print(f"{name:<78} {fmt_t(t_r):>10} {fmt_t(t_p):>12} {fmt_ratio(t_p / t_r):>8}")
         print(f"    reference: {how}")
     if page:
         print()
@@ -477,6 +482,22 @@ def compare(args):
     print("Goals (speed figures vary from run to run on a shared machine)")
     for g, ok in goals:
         print(f"  {'met   ' if ok else 'MISSED'}  {g}")
+
+    # The README's table (Markdown), for pasting under "## Speed".
+    md = ["| problem | Rungs (native) | NumPy/SciPy notebook | Rungs faster by |", "|---|---|---|---|"]
+    for name, t_r, t_p, how in rows:
+        md.append(f"| {name} | {fmt_t(t_r)} | {fmt_t(t_p)} ({how}) | {fmt_ratio(t_p / t_r)} |")
+    if page:
+        md += ["", "| in the page (headless Chromium) | |", "|---|---|",
+               f"| navigation → first result (demo analysed and drawn) | {page['first_result_ms']['median']:.0f} ms |",
+               f"| analysis of the demo, wasm call (2000 Monte Carlo draws) | first {page['wasm_analysis_ms']['first']:.0f} ms, then {page['wasm_analysis_ms']['steady_median']:.0f} ms |",
+               f"| analysis as the page shows it (with report, tables, figures) | first {page['page_analysis_ms']['first_median']:.0f} ms, then {page['page_analysis_ms']['steady_median']:.0f} ms |",
+               f"| wasm module | {page['wasm_bytes']['raw'] / 1024:.0f} KiB, {page['wasm_bytes']['gzip9'] / 1024:.0f} KiB gzip -9 |"]
+    if args.out:
+        with open(args.out + ".md", "w") as f:
+            f.write("\n".join(md) + "\n")
+        print()
+        print(f"Markdown table written to {args.out}.md")
 
     result = {
         "environment": {"python": platform.python_version(), "numpy": np.__version__, "scipy": scipy.__version__,
