@@ -368,9 +368,7 @@ def compare(args):
 
     # 2. analysis
     v, e, sig = demo_levels()
-    t0 = time.perf_counter()
-    nb = notebook_analysis(v, e, sig)
-    t_nb = time.perf_counter() - t0
+    t_nb, nb = median_time(lambda: notebook_analysis(v, e, sig), 3)
     ra = rust["analysis"]["qz2_demo"]
     checks.check(ra["n_levels"] == len(v), f"analysis: {len(v)} levels on both sides")
     checks.check(ra["mc_samples"] == MC_SAMPLES and ra["mc_ran"], "analysis: Rungs ran 2000 Monte Carlo draws")
