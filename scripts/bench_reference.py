@@ -400,6 +400,10 @@ def compare(args):
         # half-width's ~0.025 of itself (normal theory, common practice): the tolerances below
         # are about four of those standard errors for the difference of two independent runs.
         # When draws without a limit make the upper percentile unbounded, the lower half is used.
+        if mr["median"] is None or mr["p16"] is None or not math.isfinite(mp["median"]):
+            checks.check((mr["median"] is None) == (not math.isfinite(mp["median"])),
+                         f"analysis: {name}: MC median unbounded on both sides")
+            continue
         bounded = mr["p84"] is not None and math.isfinite(mp["p84"])
         hw_r = 0.5 * (mr["p84"] - mr["p16"]) if bounded else mr["median"] - mr["p16"]
         hw_p = 0.5 * (mp["p84"] - mp["p16"]) if bounded else mp["median"] - mp["p16"]
