@@ -46,8 +46,10 @@ async function boot() {
 
   for (const e of examples()) $('examples').append(el('option', { value: e.id, title: e.description }, e.title));
 
+  // The single-file build supplies a classic worker script (module workers cannot load from a
+  // file:// page); served normally, the worker is the module web/worker.js.
   const worker = globalThis.RUNGS_WORKER_URL
-    ? new Worker(globalThis.RUNGS_WORKER_URL, { type: 'module' })
+    ? new Worker(globalThis.RUNGS_WORKER_URL)
     : new Worker(new URL('./worker.js', import.meta.url), { type: 'module' });
   const rpc = connect(worker);
   rpc.onProgress = (done, total) => {
