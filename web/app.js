@@ -82,7 +82,7 @@ async function boot() {
 
   async function afterReading(reading) {
     data.show(reading);
-    settings.show(await rpc.call('settings'));
+    settings.show(await rpc.call('settings'), reading.kind);
     for (const id of ['export-json', 'share-link']) $(id).disabled = false;
     if (reading.usable_error) {
       status(`Not enough usable data: ${reading.usable_error}`, 'error');

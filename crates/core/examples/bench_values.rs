@@ -72,7 +72,10 @@ fn main() {
         "sum_sigma_cm1": sum_sigma,
     });
 
-    let qz2 = rungs_core::analyze_session(&common::qz2_session(), &mut |_, _| {}).unwrap();
+    let qz2 = match rungs_core::analyze_session(&common::qz2_session(), &mut |_, _| {}).unwrap() {
+        rungs_core::Analysis::Levels(r) => *r,
+        rungs_core::Analysis::Bands(_) => panic!("the Qz2 demo is a level list"),
+    };
     let lj12 = rungs_core::analyze_levels(
         &common::lj12_levels(),
         None,
