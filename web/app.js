@@ -29,6 +29,29 @@ function status(text, kind = '') {
 
 async function boot() {
   const wasmSource = globalThis.RUNGS_WASM_BYTES; // set by the single-file build
+
+  // Start the worker first: it compiles its copy of the module, reads the first table and runs
+  // the first analysis while this thread compiles its own copy and builds the page.
+  // The single-file build supplies a classic worker script (module workers cannot load from a
+  // file:// page); served normally, the worker is the module web/worker.js.
+  const worker = globalThis.RUNGS_WORKER_URL
+    ? new Worker(globalThis.RUNGS_WORKER_URL)
+    : new Worker(new URL('./worker.js', import.meta.url), { type: 'module' });
+  const rpc = connect(worker);
+  rpc.onProgress = (done, total) => {
+    const bar = $('progress');
+    bar.hidden = false;
+    bar.max = total;
+    bar.value = done;
+  };
+  const booted = rpc.boot(wasmSource);
+  const shared = await sessionFromUrl().catch((err) => {
+    status(`The share link could not be read: ${err.message}`, 'error');
+    return null;
+  });
+  const firstReading = booted.then(() => (shared ? rpc.call('load_session', shared) : rpc.call('load_example', 'qz2-levels')));
+  let firstAnalysis = firstReading.then((r) => (r.usable_error ? null : rpc.call('analyze'))).catch(() => null);
+
   await init(wasmSource ? { module_or_path: wasmSource } : undefined);
   $('version').textContent = version();
   $('codata').textContent = String(codata_year());
@@ -45,19 +68,7 @@ async function boot() {
 
   for (const e of examples()) $('examples').append(el('option', { value: e.id, title: e.description }, e.title));
 
-  // The single-file build supplies a classic worker script (module workers cannot load from a
-  // file:// page); served normally, the worker is the module web/worker.js.
-  const worker = globalThis.RUNGS_WORKER_URL
-    ? new Worker(globalThis.RUNGS_WORKER_URL)
-    : new Worker(new URL('./worker.js', import.meta.url), { type: 'module' });
-  const rpc = connect(worker);
-  rpc.onProgress = (done, total) => {
-    const bar = $('progress');
-    bar.hidden = false;
-    bar.max = total;
-    bar.value = done;
-  };
-  await rpc.boot(wasmSource);
+  await booted;
 
   const results = new Results({ format_energy, format_number });
   const figures = new FigurePanel(rpc, Chart);
@@ -104,7 +115,10 @@ async function boot() {
     const t0 = performance.now();
     let json;
     try {
-      json = await rpc.call('analyze');
+      // The very first analysis was started by the worker during start-up.
+      const early = firstAnalysis;
+      firstAnalysis = null;
+      json = (early && (await early)) || (await rpc.call('analyze'));
     } catch (err) {
       $('progress').hidden = true;
       forgetResults();
@@ -203,18 +217,9 @@ async function boot() {
   globalThis.rungsBuildReport = () => printReport(rpc, Chart, state.report, results, state.unit, state.unitLabel,
     { url: location.href.split('#')[0], printed: new Date().toISOString(), name: data.reading?.name, noPrint: true });
 
-  // --- open a shared session, or the demo -----------------------------------------------
-  const shared = await sessionFromUrl().catch((err) => {
-    status(`The share link could not be read: ${err.message}`, 'error');
-    return null;
-  });
-  if (shared) {
-    $('examples').value = '';
-    await afterReading(await run(() => rpc.call('load_session', shared)));
-  } else {
-    $('examples').value = 'qz2-levels';
-    await afterReading(await run(() => rpc.call('load_example', 'qz2-levels')));
-  }
+  // --- show the shared session, or the demo, read and analysed during start-up ------------
+  $('examples').value = shared ? '' : 'qz2-levels';
+  await afterReading(await run(() => firstReading));
 }
 
 boot().catch((err) => {
