@@ -29,6 +29,7 @@ use serde::{Deserialize, Serialize};
 use crate::error::{Error, Result};
 use crate::masses_table::{ELEMENTS, NUCLIDES};
 use crate::settings::MassSpec;
+use crate::sorting::sort_by;
 
 /// Where the mass table comes from (for reports and exports).
 pub const MASS_SOURCE: &str = crate::masses_table::SOURCE;
@@ -85,7 +86,7 @@ fn natural_isotopes(z: u8) -> Vec<(u16, f64)> {
         .filter(|n| n.0 == z && n.3 > 0.0)
         .map(|n| (n.1, n.3))
         .collect();
-    v.sort_by(|x, y| y.1.total_cmp(&x.1));
+    sort_by(&mut v, |x, y| y.1.total_cmp(&x.1));
     v
 }
 

@@ -28,6 +28,7 @@ use serde::{Deserialize, Serialize};
 
 use crate::data::{Band, Level, Spacing};
 use crate::error::{Error, Result};
+use crate::sorting::sort_by_key;
 use crate::units::{Medium, Unit, UnitText};
 use cell::{NumError, parse_number};
 use columns::*;
@@ -311,7 +312,7 @@ impl IntakeOptions {
             row,
             reason: reason.into(),
         });
-        self.exclusions.sort_by_key(|e| e.row);
+        sort_by_key(&mut self.exclusions, |e| e.row);
     }
 
     /// Takes back a user exclusion of a row.
@@ -330,7 +331,7 @@ impl IntakeOptions {
             }
         } else {
             self.columns.push(ColumnOverride { column, role, unit });
-            self.columns.sort_by_key(|c| c.column);
+            sort_by_key(&mut self.columns, |c| c.column);
         }
     }
 }
