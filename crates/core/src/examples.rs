@@ -103,11 +103,10 @@ impl Example {
     }
 }
 
-/// Reads settings through `serde_json::Value`, the path session documents take, so the module
+/// Reads settings the way session documents are read (straight from the text), so the module
 /// carries one settings reader rather than two.
 fn settings_from_json(json: &str) -> Option<AnalysisSettings> {
-    let value: serde_json::Value = serde_json::from_str(json).ok()?;
-    serde_json::from_value(value).ok()
+    serde_json::from_str(json).ok()
 }
 
 #[cfg(test)]
