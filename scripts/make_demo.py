@@ -43,8 +43,9 @@ def potential(r):
     return (1 - s) * morse + s * tail
 
 
-def levels(r_max=60.0, n=6000):
-    """All bound levels (cm^-1, relative to the asymptote) by radial sinc-DVR."""
+def levels(r_max=60.0, n=6000, with_b=False):
+    """All bound levels (cm^-1, relative to the asymptote) by radial sinc-DVR; with `with_b`,
+    also B_v = (C_u/mu) <1/r^2> of each level (cm^-1) from the DVR eigenvectors."""
     d = r_max / n
     i = np.arange(1, n + 1)
     r = i * d
@@ -53,8 +54,13 @@ def levels(r_max=60.0, n=6000):
         t = np.where(ii == jj, math.pi**2 / 3 - 1 / (2 * ii**2.0),
                      (-1.0) ** (ii - jj) * (2 / (ii - jj) ** 2 - 2 / (ii + jj) ** 2))
     h = (C_U / (MU * d * d)) * t + np.diag(potential(r))
-    e = eigh(h, eigvals_only=True, subset_by_value=(-DE * 1.5, 0.0))
-    return np.sort(e)
+    if not with_b:
+        return np.sort(eigh(h, eigvals_only=True, subset_by_value=(-DE * 1.5, 0.0)))
+    e, c = eigh(h, subset_by_value=(-DE * 1.5, 0.0))
+    order = np.argsort(e)
+    e, c = e[order], c[:, order]
+    b = (C_U / MU) * np.sum(c * c / (r * r)[:, None], axis=0)
+    return e, b
 
 
 HEADER = """# SYNTHETIC demo data: invented molecule Qz2, ground state. Not a real species.
@@ -65,7 +71,7 @@ HEADER = """# SYNTHETIC demo data: invented molecule Qz2, ground state. Not a re
 
 
 def main():
-    e = levels()
+    e, bv = levels(with_b=True)
     vmin = potential(np.linspace(1.5, 8, 200001)).min()
     d0_true = -e[0]
     rng = np.random.default_rng(20261201)
@@ -84,8 +90,9 @@ def main():
         print(f"wrote {path}")
 
     top = 38  # levels observed up to 99.7 % of the well
-    write("qz2-levels.csv", f"Levels v = 0..{top}, energies relative to v = 0;", "v,energy_cm1,sigma_cm1",
-          [f"{v},{noisy[v]:.3f},{sigma}" for v in range(top + 1)])
+    write("qz2-levels.csv", f"Levels v = 0..{top}, energies relative to v = 0, with B_v (cm-1, exact to 7 digits);",
+          "v,energy_cm1,sigma_cm1,B_cm1",
+          [f"{v},{noisy[v]:.3f},{sigma},{bv[v]:.7g}" for v in range(top + 1)])
     low = 10  # only the bottom of the well
     write("qz2-low-levels.csv", f"Levels v = 0..{low} only, relative to v = 0;", "v,energy_cm1,sigma_cm1",
           [f"{v},{noisy[v]:.3f},{sigma}" for v in range(low + 1)])

@@ -12,6 +12,7 @@ import { DataPanel } from './js/data.js';
 import { Results } from './js/results.js';
 import { FigurePanel } from './js/figures.js';
 import { SettingsForm } from './js/settings.js';
+import { openTables, openShare, printReport, sessionFromUrl } from './js/exports.js';
 
 const state = {
   report: null,
@@ -45,8 +46,10 @@ async function boot() {
 
   for (const e of examples()) $('examples').append(el('option', { value: e.id, title: e.description }, e.title));
 
+  // The single-file build supplies a classic worker script (module workers cannot load from a
+  // file:// page); served normally, the worker is the module web/worker.js.
   const worker = globalThis.RUNGS_WORKER_URL
-    ? new Worker(globalThis.RUNGS_WORKER_URL, { type: 'module' })
+    ? new Worker(globalThis.RUNGS_WORKER_URL)
     : new Worker(new URL('./worker.js', import.meta.url), { type: 'module' });
   const rpc = connect(worker);
   rpc.onProgress = (done, total) => {
@@ -79,7 +82,7 @@ async function boot() {
 
   async function afterReading(reading) {
     data.show(reading);
-    settings.show(await rpc.call('settings'));
+    settings.show(await rpc.call('settings'), reading.kind);
     for (const id of ['export-json', 'share-link']) $(id).disabled = false;
     if (reading.usable_error) {
       status(`Not enough usable data: ${reading.usable_error}`, 'error');
@@ -111,7 +114,7 @@ async function boot() {
       document.body.dataset.firstResultMs = (performance.now() - state.started).toFixed(1);
     }
     const r = state.report;
-    const what = r.format === 'rungs-band-analysis' ? `${r.input.n_bands} bands, both states` : `${r.levels.length} levels`;
+    const what = r.format === 'rungs-band-analysis' ? `${r.input.n_bands} bands, both states` : `${r.input.n_points} ${r.input.kind}`;
     const mc = r.settings.mc_samples ? `Monte Carlo ${r.settings.mc_samples} draws` : 'Monte Carlo off';
     status(`Analysed in ${ms.toFixed(0)} ms · ${what} · ${mc}.`, 'ok');
     document.body.dataset.state = 'analysed';
@@ -147,6 +150,19 @@ async function boot() {
       if (text) await openBytes('dropped text', new TextEncoder().encode(text));
     }
   });
+  // Ctrl+V anywhere on the page (outside a text field) reads the clipboard as a table: the text
+  // goes straight to the worker, so even a very long table never sits in a text box.
+  document.addEventListener('paste', async (e) => {
+    const t = e.target;
+    if (t instanceof HTMLInputElement || t instanceof HTMLTextAreaElement || t?.isContentEditable) return;
+    const text = e.clipboardData?.getData('text/plain');
+    if (!text) return;
+    e.preventDefault();
+    status('Reading the pasted table…');
+    const reading = await run(() => rpc.call('load_text', 'pasted table', text));
+    $('examples').value = '';
+    await afterReading(reading);
+  });
   $('paste-open').addEventListener('click', () => $('paste-dialog').showModal());
   $('paste-dialog').addEventListener('close', async () => {
     if ($('paste-dialog').returnValue !== 'read') return;
@@ -166,14 +182,30 @@ async function boot() {
 
   // --- export ---------------------------------------------------------------------------
   $('export-json').addEventListener('click', async () => {
-    if (state.reportJson) download('rungs-analysis.json', 'application/json', state.reportJson);
+    if (state.report) download('rungs-analysis.json', 'application/json', await rpc.call('analysis_json'));
     else download('rungs-session.json', 'application/json', await rpc.call('session_json'));
   });
 
-  // --- open with the demo ---------------------------------------------------------------
-  $('examples').value = 'qz2-levels';
-  const reading = await run(() => rpc.call('load_example', 'qz2-levels'));
-  await afterReading(reading);
+  $('export-csv').addEventListener('click', () => run(() => openTables(rpc)));
+  $('share-link').addEventListener('click', () => run(() => openShare(rpc)));
+  $('print-report').addEventListener('click', () => run(() => printReport(rpc, Chart, state.report,
+    results, state.unit, state.unitLabel, { url: location.href.split('#')[0], printed: new Date().toISOString(), name: data.reading?.name })));
+  // Tests build the report without opening the print dialog.
+  globalThis.rungsBuildReport = () => printReport(rpc, Chart, state.report, results, state.unit, state.unitLabel,
+    { url: location.href.split('#')[0], printed: new Date().toISOString(), name: data.reading?.name, noPrint: true });
+
+  // --- open a shared session, or the demo -----------------------------------------------
+  const shared = await sessionFromUrl().catch((err) => {
+    status(`The share link could not be read: ${err.message}`, 'error');
+    return null;
+  });
+  if (shared) {
+    $('examples').value = '';
+    await afterReading(await run(() => rpc.call('load_session', shared)));
+  } else {
+    $('examples').value = 'qz2-levels';
+    await afterReading(await run(() => rpc.call('load_example', 'qz2-levels')));
+  }
 }
 
 boot().catch((err) => {

@@ -87,6 +87,7 @@ export class DataPanel {
       el('span', { class: 'c-line', role: 'columnheader' }, 'row'),
       el('span', { class: 'c-use', role: 'columnheader' }, 'use'),
       r.columns.map((c) => el('span', { class: 'c-cell', role: 'columnheader' }, c.name || `col ${c.index}`)),
+      el('span', { class: 'c-sigma', role: 'columnheader', title: 'σ used by the analyses, in the value column\'s unit; type a value to replace the table\'s σ, clear it to restore' }, 'σ (edit)'),
       el('span', { class: 'c-why', role: 'columnheader' }, 'status'));
     this.spacer = el('div', { class: 'spacer' });
     this.spacer.style.height = `${r.n_rows * ROW_HEIGHT}px`; // CSSOM: allowed by the page's CSP
@@ -138,10 +139,28 @@ export class DataPanel {
         onchange: (e) => this.onChange({ op: 'exclude', row: row.line, reason: e.target.value || 'excluded by you (no reason given)' }),
       }))
       : el('span', { class: 'c-why', title: row.reasons.join('; ') }, usable ? 'used' : row.reasons.join('; '));
+    const sigmaColumn = this.reading.columns.findIndex((c) => c.role === 'sigma');
+    const shown = row.sigma_edited ?? (sigmaColumn >= 0 ? row.cells[sigmaColumn] : '');
+    const sigma = el('span', { class: 'c-sigma' }, el('input', {
+      type: 'text', inputmode: 'decimal', value: shown ?? '', class: row.sigma_edited !== null && row.sigma_edited !== undefined ? 'edited' : '',
+      'aria-label': `Uncertainty of row ${row.line}`,
+      onchange: (e) => {
+        const t = e.target.value.trim();
+        const x = Number(t);
+        if (t !== '' && !Number.isFinite(x)) {
+          e.target.setCustomValidity('not a number');
+          e.target.reportValidity();
+          return;
+        }
+        e.target.setCustomValidity('');
+        this.onChange({ op: 'sigma', row: row.line, sigma: t === '' ? null : x });
+      },
+    }));
     return el('div', { class: `row ${row.status}`, role: 'row', 'data-line': row.line },
       el('span', { class: 'c-line' }, row.line),
       toggle,
       this.reading.columns.map((c, i) => el('span', { class: 'c-cell' }, row.cells[i] ?? '')),
+      sigma,
       why);
   }
 }

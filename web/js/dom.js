@@ -33,7 +33,8 @@ export function download(name, mime, data) {
   document.body.append(a);
   a.click();
   a.remove();
-  setTimeout(() => URL.revokeObjectURL(url), 1000);
+  // Revoke late: the browser may start reading the blob well after the click.
+  setTimeout(() => URL.revokeObjectURL(url), 60000);
 }
 
 /** A table from a header row and body rows (arrays of cells: strings, nodes or {text, class}). */

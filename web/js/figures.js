@@ -73,7 +73,8 @@ export class FigurePanel {
     canvas.height = Math.round(height * ratio);
     canvas.setAttribute('aria-label', this.chart.title());
     this.chart.draw(canvas, ratio);
-    document.body.dataset.figure = this.current;
+    document.body.dataset.shownFigure = this.current;
+    document.body.dataset.figureDraws = String(Number(document.body.dataset.figureDraws ?? 0) + 1);
   }
 
   hover(event) {

@@ -35,7 +35,33 @@ export class Results {
     clear($('estimates')).append(this.estimatesTable(doc, unitToken, unitLabel));
     clear($('constants')).append(...this.constantsTables(doc.constants, doc.morse, unitToken, unitLabel));
     this.renderOrders(doc);
+    this.renderLoop(doc, unitToken, unitLabel);
     this.renderAssumptions(doc);
+  }
+
+  /** The RKR potential's check against the data (or why there is none). */
+  renderLoop(doc, u, label) {
+    const host = clear($('loop'));
+    const p = doc.potential;
+    if (!p) {
+      host.append(el('p', { class: 'estimate-note' }, doc.potential_note ?? 'No potential curve for this analysis.'));
+      return;
+    }
+    const c = p.check;
+    host.append(
+      el('p', { id: 'loop-verdict' }, el('strong', {}, c.verdict === 'consistent' ? 'Consistent. ' : c.verdict === 'inconsistent' ? 'Not consistent. ' : ''), c.summary),
+      el('p', { class: 'estimate-note' }, `${p.method}; ${p.note}. r_e = ${this.num(p.re_angstrom, null, 6)} Å.`),
+      ...p.warnings.map((w) => el('p', { class: 'error' }, w)));
+    const rows = c.rows.map((r) => [
+      r.v,
+      { text: this.energy(r.observed_cm1, null, u)[0], class: 'num' },
+      { text: this.energy(r.calculated_cm1, null, u)[0], class: 'num' },
+      { text: this.pm(r.residual_cm1, null, u), class: 'num' },
+      { text: r.normalized_residual === null ? '—' : r.normalized_residual.toFixed(2), class: 'num' },
+      { text: r.b_residual_cm1 === null ? '—' : r.b_residual_cm1.toExponential(2), class: 'num' },
+    ]);
+    host.append(el('details', {}, el('summary', {}, `Observed − calculated for ${c.rows.length} levels (rms ${this.energy(c.rms_cm1, null, u)[0]} ${label})`),
+      el('div', { class: 'table-wrap' }, table(['v', `observed / ${label}`, `calculated / ${label}`, `obs − calc / ${label}`, '(obs − calc)/σ', 'B obs − calc / cm⁻¹'], rows))));
   }
 
   /** A band list: both states, T00/Te, the numbering verdict and the energy cycle. */
@@ -73,6 +99,7 @@ export class Results {
     if (g.lower) cons.append(el('h3', {}, 'Lower state (global fit of the band positions)'), ...this.constantsTables(g.lower, null, u, label));
     cons.append(el('p', {}, `Global fit: ${g.n_bands} bands, ${g.n_params} parameters, χ²/dof = ${g.chi2_reduced === null ? '—' : this.num(g.chi2_reduced, null, 4)}. ${g.uncertainty_note}`));
     clear($('orders')).append(el('p', {}, g.order_selection.reason));
+    clear($('loop')).append(el('p', { class: 'estimate-note' }, 'Potential curves are built for level lists with rotational constants B_v; open the levels of one state with a B column to close the loop.'));
     this.renderAssumptions(doc);
   }
 

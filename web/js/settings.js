@@ -21,7 +21,7 @@ export class SettingsForm {
     this.settings = null;
   }
 
-  show(settings) {
+  show(settings, kind) {
     this.settings = settings;
     const form = clear($('settings'));
     const mass = settings.mass;
@@ -44,6 +44,49 @@ export class SettingsForm {
       }
       form.append(el('label', { title: f.help ?? '' }, f.label, input));
     }
+    if (kind === 'bands') this.showBands(form, settings.bands ?? {});
+  }
+
+  /** Band-list choices: atoms of each isotopologue tag, predictions, energy cycle, heads. */
+  showBands(form, b) {
+    const isoText = (b.isotopologues ?? []).map((i) => `${i.tag}=${i.a},${i.b}`).join('; ');
+    const rot = b.rotation;
+    const rotText = (s) => (s ? `${s.be_cm1},${s.alpha_e_cm1}` : '');
+    form.append(el('h3', {}, 'Band list'),
+      el('label', { title: 'Tags in the isotopologue column and their two atoms (nuclide labels or masses in u)' }, 'Isotopologue atoms',
+        el('input', { name: 'isotopologues', value: isoText, placeholder: '1H-35Cl=1H,35Cl; 2H-35Cl=D,35Cl', onchange: (e) => this.setBand('isotopologues', this.parseIsotopologues(e.target.value)) })),
+      el('label', { title: 'Tags of isotopologues to predict (they need atoms above)' }, 'Predict isotopologues',
+        el('input', { name: 'predict', value: (b.predict ?? []).join(', '), placeholder: 'e.g. 2H-37Cl', onchange: (e) => this.setBand('predict', e.target.value.split(/[,;\s]+/).filter(Boolean)) })),
+      el('label', { title: 'Excitation energy of the atomic asymptote the upper state goes to, above the lower state\'s asymptote (cm⁻¹): gives D0″ = T00 + D0′ − E_atom' }, 'Atomic excitation energy / cm⁻¹',
+        el('input', { name: 'atomic_excitation_cm1', inputmode: 'decimal', value: b.atomic_excitation_cm1 ?? '', placeholder: 'empty: none', onchange: (e) => this.setBand('atomic_excitation_cm1', this.parse('float?', e.target.value)) })),
+      el('label', { title: 'Be and αe of the upper state, cm⁻¹ (needed to correct band heads to origins)' }, 'Upper Be, αe / cm⁻¹',
+        el('input', { name: 'rot_upper', value: rotText(rot?.upper), placeholder: 'e.g. 0.81902,0.01206', onchange: () => this.setRotation(form) })),
+      el('label', { title: 'Be and αe of the lower state, cm⁻¹' }, 'Lower Be, αe / cm⁻¹',
+        el('input', { name: 'rot_lower', value: rotText(rot?.lower), placeholder: 'e.g. 1.44563,0.01593', onchange: () => this.setRotation(form) })));
+  }
+
+  parseIsotopologues(text) {
+    return text.split(';').map((t) => t.trim()).filter(Boolean).map((t) => {
+      const [tag, atoms = ''] = t.split('=');
+      const [a = '', b = ''] = atoms.split(',');
+      return { tag: tag.trim(), a: a.trim(), b: b.trim() };
+    });
+  }
+
+  setRotation(form) {
+    const read = (name) => {
+      const parts = form.elements[name].value.split(',').map((x) => Number.parseFloat(x));
+      return parts.length === 2 && parts.every(Number.isFinite) ? { be_cm1: parts[0], alpha_e_cm1: parts[1] } : null;
+    };
+    const upper = read('rot_upper');
+    const lower = read('rot_lower');
+    this.setBand('rotation', upper && lower ? { upper, lower } : null);
+  }
+
+  setBand(key, value) {
+    if (value === undefined) return;
+    this.settings = { ...this.settings, bands: { ...(this.settings.bands ?? {}), [key]: value } };
+    this.onChange(this.settings);
   }
 
   parse(type, text) {

@@ -50,6 +50,9 @@ pub struct AnalyzeArgs {
     /// Use this polynomial order for G(v) instead of the recommended one.
     #[arg(long, value_name = "K")]
     pub order: Option<u32>,
+    /// Highest polynomial order tried for G(v) (default 6).
+    #[arg(long, value_name = "K")]
+    pub max_order: Option<u32>,
     /// Number of top levels used by the near-dissociation fit.
     #[arg(long, value_name = "N")]
     pub lb_top: Option<u32>,
@@ -85,6 +88,9 @@ pub struct AnalyzeArgs {
     /// Also write every figure as SVG into this folder (created if missing).
     #[arg(long, value_name = "DIR")]
     pub figures: Option<PathBuf>,
+    /// Also write every table as CSV into this folder (created if missing).
+    #[arg(long, value_name = "DIR")]
+    pub tables: Option<PathBuf>,
     /// Energy unit of the figures (cm-1, eV, kJ/mol, …).
     #[arg(long, value_name = "U", default_value = "cm-1")]
     pub figure_unit: String,
@@ -129,6 +135,9 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
     }
     if let Some(k) = args.order {
         s.order = Some(k);
+    }
+    if let Some(k) = args.max_order {
+        s.max_order = k;
     }
     if let Some(t) = args.lb_top {
         s.lb_top_levels = Some(t);
@@ -189,23 +198,15 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
         Ok(r) => r,
         Err(e) => return fail(format!("{}: {e}", args.file.display())),
     };
-    if let Some(dir) = &args.figures {
-        // A band analysis has one set of figures per state, in subfolders.
-        let sets: Vec<(&rungs_core::Report, PathBuf)> = match &report {
-            rungs_core::Analysis::Levels(r) => vec![(r, dir.clone())],
-            rungs_core::Analysis::Bands(b) => [
-                (b.states.upper.as_ref(), "upper"),
-                (b.states.lower.as_ref(), "lower"),
-            ]
-            .into_iter()
-            .filter_map(|(r, sub)| r.map(|r| (r, dir.join(sub))))
-            .collect(),
-        };
-        for (r, d) in sets {
-            if let Err(message) = write_figures(r, &d, &args.figure_unit) {
-                return fail(message);
-            }
-        }
+    if let Some(dir) = &args.tables
+        && let Err(message) = write_tables(&report, &session, dir)
+    {
+        return fail(message);
+    }
+    if let Some(dir) = &args.figures
+        && let Err(message) = write_figures(&report, dir, &args.figure_unit)
+    {
+        return fail(message);
     }
     match args.format {
         Format::Text => print!("{}", report.render_text()),
@@ -220,23 +221,46 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
     ExitCode::SUCCESS
 }
 
-/// Writes every figure of `report` as `DIR/<id>.svg`.
+/// Writes every figure of `analysis` as `DIR/<id>.svg`.
 fn write_figures(
-    report: &rungs_core::Report,
+    analysis: &rungs_core::Analysis,
     dir: &std::path::Path,
     unit: &str,
 ) -> Result<(), String> {
-    use rungs_plot::figures::{EnergyScale, FIGURES, figure};
+    use rungs_plot::figures::{EnergyScale, analysis_figure, analysis_figures};
     let unit = rungs_core::units::Unit::parse(unit).map_err(|e| e.to_string())?;
     let scale = EnergyScale::of(unit)
         .ok_or_else(|| format!("--figure-unit: {} is not an energy unit", unit.token()))?;
-    std::fs::create_dir_all(dir).map_err(|e| format!("{}: {e}", dir.display()))?;
-    for (id, _) in FIGURES {
-        if let Some(chart) = figure(report, id, scale) {
+    for (id, _) in analysis_figures(analysis) {
+        if let Some(chart) = analysis_figure(analysis, &id, scale) {
             let svg = rungs_plot::to_svg(&chart, 900, 560).map_err(|e| e.to_string())?;
-            let path = dir.join(format!("{id}.svg"));
+            // A band analysis's per-state figures go into `upper/` and `lower/`.
+            let path = dir.join(format!("{}.svg", id.replace(':', "/")));
+            if let Some(parent) = path.parent() {
+                std::fs::create_dir_all(parent)
+                    .map_err(|e| format!("{}: {e}", parent.display()))?;
+            }
             std::fs::write(&path, svg).map_err(|e| format!("{}: {e}", path.display()))?;
         }
+    }
+    Ok(())
+}
+
+/// Writes every table of `analysis` as `DIR/<id>.csv` (`upper:` / `lower:` become folders).
+fn write_tables(
+    analysis: &rungs_core::pipeline::Analysis,
+    session: &rungs_core::session::Session,
+    dir: &std::path::Path,
+) -> Result<(), String> {
+    let data = session.data().map_err(|e| e.to_string())?;
+    for (id, _) in rungs_core::export::tables(analysis) {
+        let csv =
+            rungs_core::export::table_csv(analysis, Some(&data), &id).map_err(|e| e.to_string())?;
+        let path = dir.join(format!("{}.csv", id.replace(':', "/")));
+        if let Some(parent) = path.parent() {
+            std::fs::create_dir_all(parent).map_err(|e| format!("{}: {e}", parent.display()))?;
+        }
+        std::fs::write(&path, csv).map_err(|e| format!("{}: {e}", path.display()))?;
     }
     Ok(())
 }

@@ -1347,7 +1347,11 @@ fn run(
         },
         warnings,
         plot,
+        potential: None,
+        potential_note: None,
         rows: None,
+        input_sha256: None,
+        methods: None,
         session: None,
     })
 }

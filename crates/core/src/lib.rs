@@ -13,17 +13,20 @@
 
 pub mod analysis;
 pub mod bands;
+pub mod closing;
 pub mod constants;
 pub mod data;
 pub mod dunham;
 pub mod error;
 pub mod examples;
+pub mod export;
 pub mod extrapolate;
 pub mod format;
 pub mod intake;
 pub mod lsq;
 pub mod masses;
 mod masses_table;
+pub mod methods;
 pub mod montecarlo;
 pub mod morse;
 pub mod pipeline;

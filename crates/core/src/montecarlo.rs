@@ -127,12 +127,17 @@ pub fn run(
         )
     })?;
     let l = chol.l();
-    // Packed lower triangle for a tight inner loop.
-    let mut lp = Vec::with_capacity(n * (n + 1) / 2);
+    // The non-zero entries of the lower triangle, row by row, for a tight inner loop (a
+    // diagonal covariance, the common case, leaves n of them; skipped terms are exact zeros).
+    let mut lp: Vec<(usize, f64)> = Vec::with_capacity(n * (n + 1) / 2);
+    let mut row_end = Vec::with_capacity(n);
     for i in 0..n {
         for j in 0..=i {
-            lp.push(l[(i, j)]);
+            if l[(i, j)] != 0.0 {
+                lp.push((j, l[(i, j)]));
+            }
         }
+        row_end.push(lp.len());
     }
     let m = estimators.len();
     let mut d0 = vec![vec![0.0; samples]; m];
@@ -146,13 +151,13 @@ pub fn run(
         for zi in z.iter_mut() {
             *zi = StandardNormal.sample(&mut rng);
         }
-        let mut k = 0;
+        let mut start = 0;
         for i in 0..n {
             let mut acc = 0.0;
-            for zj in z.iter().take(i + 1) {
-                acc += lp[k] * zj;
-                k += 1;
+            for &(j, lij) in &lp[start..row_end[i]] {
+                acc += lij * z[j];
             }
+            start = row_end[i];
             dy[i] = acc;
             ys[i] = y[i] + acc;
         }

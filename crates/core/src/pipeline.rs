@@ -143,14 +143,16 @@ pub fn analyze_session(
         report.session = Some(session.clone());
         Analysis::Levels(Box::new(report))
     };
-    Ok(match data.kind {
-        DataKind::Levels => single(analyze_levels_with_progress(
-            &data.levels()?,
-            None,
-            mu_u,
-            settings,
-            progress,
-        )?),
+    let mut analysis = match data.kind {
+        DataKind::Levels => {
+            let levels = data.levels()?;
+            let mut report = analyze_levels_with_progress(&levels, None, mu_u, settings, progress)?;
+            match crate::closing::close_the_loop(&report, &levels, mu_u) {
+                Ok(p) => report.potential = Some(p),
+                Err(why) => report.potential_note = Some(why),
+            }
+            single(report)
+        }
         DataKind::Spacings => single(analyze_spacings_with_progress(
             &data.spacings()?,
             None,
@@ -166,7 +168,20 @@ pub fn analyze_session(
             report.session = Some(session.clone());
             Analysis::Bands(Box::new(report))
         }
-    })
+    };
+    let methods = crate::methods::methods(&analysis);
+    let hash = crate::methods::sha256_hex(&session.input.text);
+    match &mut analysis {
+        Analysis::Levels(r) => {
+            r.methods = Some(methods);
+            r.input_sha256 = Some(hash);
+        }
+        Analysis::Bands(b) => {
+            b.methods = Some(methods);
+            b.input_sha256 = Some(hash);
+        }
+    }
+    Ok(analysis)
 }
 
 #[cfg(test)]

@@ -338,7 +338,7 @@ pub struct Linearised {
 }
 
 /// Everything the page needs to draw.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
 pub struct PlotData {
     /// Spacings at x = v + ½ with σ.
     pub spacings: Vec<PlotPoint>,
@@ -401,9 +401,22 @@ pub struct Report {
     pub warnings: Vec<String>,
     /// Plot series.
     pub plot: PlotData,
+    /// The RKR potential built from the constants and the given B_v, its levels, and the
+    /// observed − calculated check (from [`crate::pipeline`]; see [`crate::closing`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub potential: Option<crate::closing::PotentialOut>,
+    /// Why there is no potential curve.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub potential_note: Option<String>,
     /// Every input row that was not used, with its reason (from [`crate::pipeline`]).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub rows: Option<RowsSummary>,
+    /// SHA-256 of the input text (hex), so a result can be tied to the exact data it came from.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub input_sha256: Option<String>,
+    /// A methods paragraph naming the published methods used, with references.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub methods: Option<crate::methods::Methods>,
     /// The session that produced this report: input text, reading choices, settings. Present
     /// when the analysis started from a session, so the document can be re-imported.
     #[serde(default, skip_serializing_if = "Option::is_none")]

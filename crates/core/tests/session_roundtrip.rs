@@ -6,7 +6,7 @@
 
 use proptest::prelude::*;
 use rungs_core::intake::{
-    ALL_ROLES, BandPositions, ColumnOverride, DataKind, Delimiter, IntakeOptions, Role,
+    ALL_ROLES, BandPositions, ColumnOverride, DataKind, Delimiter, IntakeOptions, Role, SigmaEdit,
     UserExclusion, read_table,
 };
 use rungs_core::session::Session;
@@ -172,16 +172,23 @@ fn intake() -> impl Strategy<Value = IntakeOptions> {
                 .prop_map(|(row, reason)| UserExclusion { row, reason }),
             0..5,
         ),
+        prop::collection::vec(
+            (any::<usize>(), finite_f64()).prop_map(|(row, sigma)| SigmaEdit { row, sigma }),
+            0..5,
+        ),
     )
         .prop_map(
-            |(kind, band_positions, header, delimiter, unit, columns, exclusions)| IntakeOptions {
-                kind,
-                band_positions,
-                header,
-                delimiter,
-                unit,
-                columns,
-                exclusions,
+            |(kind, band_positions, header, delimiter, unit, columns, exclusions, sigmas)| {
+                IntakeOptions {
+                    kind,
+                    band_positions,
+                    header,
+                    delimiter,
+                    unit,
+                    columns,
+                    exclusions,
+                    sigmas,
+                }
             },
         )
 }

@@ -13,7 +13,7 @@ use rungs_core::units::Unit;
 use crate::{Dash, Layer, Legend, Mark, Point, Shape, XyChart};
 
 /// Identifiers of the figures a single-state report offers, in display order.
-pub const FIGURES: [(&str, &str); 5] = [
+pub const FIGURES: [(&str, &str); 7] = [
     ("spacings", "Spacings ΔG with every extrapolation"),
     ("residuals", "Residuals of the selected G(v) fit"),
     (
@@ -25,6 +25,11 @@ pub const FIGURES: [(&str, &str); 5] = [
         "ladder",
         "Top of the well: last levels and each method's limit",
     ),
+    (
+        "potential",
+        "RKR potential with its levels, turning points and wavefunctions",
+    ),
+    ("loop", "Observed − calculated levels of the RKR potential"),
 ];
 
 /// Palette index and marker for a method, fixed so a method keeps its look in every figure.
@@ -88,6 +93,8 @@ pub fn figure(report: &Report, id: &str, scale: EnergyScale) -> Option<XyChart> 
         "near-limit" => near_limit(report),
         "levels" => Some(levels(report, scale)),
         "ladder" => Some(ladder(report, scale)),
+        "potential" => potential(report, scale),
+        "loop" => loop_check(report, scale),
         _ => None,
     }
 }
@@ -613,7 +620,176 @@ pub fn short_label(id: &str) -> String {
         "near-limit" => "near limit",
         "levels" => "G(v)",
         "ladder" => "top of well",
+        "potential" => "potential",
+        "loop" => "obs − calc",
         other => other,
     };
     format!("{prefix}{name}")
+}
+
+/// The RKR potential with each solved level drawn between its turning points, a few
+/// wavefunctions drawn on their levels, and the RKR turning points.
+pub fn potential(report: &Report, scale: EnergyScale) -> Option<XyChart> {
+    let p = report.potential.as_ref()?;
+    let mut layers = vec![Layer {
+        label: "RKR potential (with extensions)".into(),
+        colour: 0,
+        mark: Mark::Line {
+            points: p.curve.iter().map(|q| (q[0], scale.e(q[1]))).collect(),
+            dash: Dash::Solid,
+        },
+    }];
+    layers.push(Layer {
+        label: "levels of the curve".into(),
+        colour: 6,
+        mark: Mark::Segments {
+            segments: p
+                .levels
+                .iter()
+                .map(|l| {
+                    let e = scale.e(l.energy_cm1);
+                    ((l.r_inner_angstrom, e), (l.r_outer_angstrom, e))
+                })
+                .collect(),
+            dash: Dash::Solid,
+        },
+    });
+    // Wavefunctions: amplitude scaled so the largest lobe spans ~0.8 of a mean level spacing.
+    let spacing = if p.levels.len() > 1 {
+        (p.levels[p.levels.len() - 1].energy_cm1 - p.levels[0].energy_cm1)
+            / (p.levels.len() - 1) as f64
+    } else {
+        p.levels.first().map_or(1.0, |l| l.energy_cm1)
+    };
+    let mut first = true;
+    for l in &p.levels {
+        if let Some(w) = &l.wavefunction {
+            let peak = w
+                .iter()
+                .fold(0.0_f64, |m, q| m.max(q[1].abs()))
+                .max(f64::MIN_POSITIVE);
+            let amp = 0.8 * spacing / peak;
+            layers.push(Layer {
+                label: if first {
+                    "wavefunctions ψ_v (scaled, on their levels)".into()
+                } else {
+                    String::new()
+                },
+                colour: 1,
+                mark: Mark::Line {
+                    points: w
+                        .iter()
+                        .map(|q| (q[0], scale.e(l.energy_cm1 + amp * q[1])))
+                        .collect(),
+                    dash: Dash::Solid,
+                },
+            });
+            first = false;
+        }
+    }
+    let tp = |inner: bool| -> Vec<Point> {
+        p.turning_points
+            .iter()
+            .map(|t| Point {
+                x: if inner {
+                    t.r_inner_angstrom
+                } else {
+                    t.r_outer_angstrom
+                },
+                y: scale.e(t.energy_cm1),
+                y_err: None,
+                included: true,
+                tag: format!(
+                    "v = {}: G = {:.3} {}, r₋ = {:.5} Å, r₊ = {:.5} Å, B = {:.6} cm⁻¹",
+                    t.v,
+                    scale.e(t.energy_cm1),
+                    scale.label,
+                    t.r_inner_angstrom,
+                    t.r_outer_angstrom,
+                    t.b_cm1
+                ),
+            })
+            .collect()
+    };
+    let mut points = tp(true);
+    points.extend(tp(false));
+    layers.push(Layer {
+        label: "RKR turning points".into(),
+        colour: 2,
+        mark: Mark::Points {
+            points,
+            shape: Shape::Circle,
+        },
+    });
+    Some(XyChart {
+        title: format!(
+            "RKR potential (r_e = {:.5} Å) and its levels",
+            p.re_angstrom
+        ),
+        x_label: "r / Å".into(),
+        y_label: format!("V(r) above the minimum / {}", scale.label),
+        layers,
+        x_range: None,
+        y_range: None,
+        note: format!("{}{}", synthetic_note(report), p.method),
+        legend: Legend::LowerRight,
+        x_ticks: true,
+    })
+}
+
+/// Observed − calculated level energies (after one common offset) of the RKR potential.
+pub fn loop_check(report: &Report, scale: EnergyScale) -> Option<XyChart> {
+    let p = report.potential.as_ref()?;
+    let points = p
+        .check
+        .rows
+        .iter()
+        .map(|r| Point {
+            x: r.v as f64,
+            y: scale.e(r.residual_cm1),
+            y_err: r.sigma_cm1.map(|s| scale.e(s)),
+            included: true,
+            tag: format!(
+                "v = {}: obs − calc = {:.4} {}{}",
+                r.v,
+                scale.e(r.residual_cm1),
+                scale.label,
+                r.b_residual_cm1
+                    .map(|b| format!(", B obs − calc = {b:.2e} cm⁻¹"))
+                    .unwrap_or_default()
+            ),
+        })
+        .collect();
+    Some(XyChart {
+        title: "Closing the loop: observed − calculated levels".into(),
+        x_label: "v".into(),
+        y_label: format!("observed − calculated / {}", scale.label),
+        layers: vec![
+            Layer {
+                label: String::new(),
+                colour: 0,
+                mark: Mark::HRule {
+                    y: 0.0,
+                    text: String::new(),
+                },
+            },
+            Layer {
+                label: "levels of the RKR potential".into(),
+                colour: 1,
+                mark: Mark::Points {
+                    points,
+                    shape: Shape::Circle,
+                },
+            },
+        ],
+        x_range: None,
+        y_range: None,
+        note: format!(
+            "{}one common offset fitted; {}",
+            synthetic_note(report),
+            p.check.summary.split(". ").next().unwrap_or("")
+        ),
+        legend: Legend::UpperRight,
+        x_ticks: true,
+    })
 }

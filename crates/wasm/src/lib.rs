@@ -168,6 +168,8 @@ struct RowDto<'a> {
     status: RowStatus,
     reasons: Vec<String>,
     observation: &'a Option<intake::Observation>,
+    /// σ the user typed for this row (value column's unit), if any.
+    sigma_edited: Option<f64>,
 }
 
 /// A change to how the table is read, sent by the page.
@@ -201,6 +203,10 @@ enum ReadingChange {
     Include {
         row: usize,
     },
+    Sigma {
+        row: usize,
+        sigma: Option<f64>,
+    },
 }
 
 /// The worker-side handle: one session, its reading, and its latest analysis.
@@ -209,6 +215,45 @@ pub struct Workbench {
     session: Option<Session>,
     data: Option<DataSet>,
     report: Option<rungs_core::pipeline::Analysis>,
+    /// The full analysis document of `report`, kept for export.
+    report_json: Option<String>,
+}
+
+/// Longest list kept in the on-screen view of a report (the export keeps everything).
+const VIEW_LIST_MAX: usize = 2000;
+
+/// The report as the page's tables need it: without the embedded session, the plot series (the
+/// worker builds figures itself) and with long lists cut, so a huge table does not freeze the
+/// page while its report is parsed. Counts stay exact (`input.n_points`, `rows.total/used`).
+fn view_of(analysis: &rungs_core::pipeline::Analysis) -> rungs_core::pipeline::Analysis {
+    use rungs_core::pipeline::Analysis;
+    fn slim(r: &mut rungs_core::Report) {
+        r.session = None;
+        r.plot = Default::default();
+        r.levels.truncate(VIEW_LIST_MAX);
+        r.spacings.truncate(VIEW_LIST_MAX);
+        r.fit.residuals.truncate(VIEW_LIST_MAX);
+        if let Some(rows) = r.rows.as_mut() {
+            rows.excluded.truncate(VIEW_LIST_MAX);
+        }
+    }
+    let mut view = analysis.clone();
+    match &mut view {
+        Analysis::Levels(r) => slim(r),
+        Analysis::Bands(b) => {
+            b.session = None;
+            if let Some(rows) = b.rows.as_mut() {
+                rows.excluded.truncate(VIEW_LIST_MAX);
+            }
+            for s in [b.states.upper.as_mut(), b.states.lower.as_mut()]
+                .into_iter()
+                .flatten()
+            {
+                slim(s);
+            }
+        }
+    }
+    view
 }
 
 impl Default for Workbench {
@@ -226,6 +271,7 @@ impl Workbench {
             session: None,
             data: None,
             report: None,
+            report_json: None,
         }
     }
 
@@ -340,6 +386,11 @@ impl Workbench {
                     )
                     .collect(),
                 observation: &r.observation,
+                sigma_edited: data
+                    .sigma_edits
+                    .iter()
+                    .find(|e| e.row == r.line)
+                    .map(|e| e.sigma),
             })
             .collect();
         to_js(&rows)
@@ -384,6 +435,11 @@ impl Workbench {
             }
             ReadingChange::Exclude { row, reason } => o.exclude(row, reason),
             ReadingChange::Include { row } => o.include(row),
+            ReadingChange::Sigma {
+                row,
+                sigma: Some(x),
+            } => o.set_sigma(row, x),
+            ReadingChange::Sigma { row, sigma: None } => o.clear_sigma(row),
         }
         self.install(session)
     }
@@ -401,17 +457,25 @@ impl Workbench {
     }
 
     /// Run the analysis of the current session. `progress(done, total)` is called as the Monte
-    /// Carlo draws advance. Returns the analysis document as JSON (the same document the
-    /// command line prints with `--format json`).
+    /// Carlo draws advance. Returns the on-screen view of the analysis document as JSON (long
+    /// lists cut, see `view_of`); [`Workbench::analysis_json`] gives the whole document.
     pub fn analyze(&mut self, progress: &js_sys::Function) -> Result<String, JsError> {
         let (session, _) = self.current()?;
         let mut hook = |done: usize, total: usize| {
             let _ = progress.call2(&JsValue::NULL, &JsValue::from(done), &JsValue::from(total));
         };
         let report = rungs_core::analyze_session(session, &mut hook).map_err(js_err)?;
-        let json = report.to_json().map_err(js_err)?;
+        self.report_json = Some(report.to_json().map_err(js_err)?);
+        let view = view_of(&report).to_json().map_err(js_err)?;
         self.report = Some(report);
-        Ok(json)
+        Ok(view)
+    }
+
+    /// The whole analysis document of the last analysis (the command line's `--format json`).
+    pub fn analysis_json(&self) -> Result<String, JsError> {
+        self.report_json
+            .clone()
+            .ok_or_else(|| js_err("no analysis yet"))
     }
 
     /// The figures the last analysis offers: `[[id, title, short label]]`.
@@ -445,6 +509,24 @@ impl Workbench {
         serde_json::to_string(&chart).map_err(js_err)
     }
 
+    /// Tables of the last analysis that can be exported as CSV: `[[id, title]]`.
+    pub fn table_list(&self) -> Result<JsValue, JsError> {
+        let analysis = self
+            .report
+            .as_ref()
+            .ok_or_else(|| js_err("no analysis yet"))?;
+        to_js(&rungs_core::export::tables(analysis))
+    }
+
+    /// Table `id` of the last analysis as CSV text (energies in cm⁻¹, full precision).
+    pub fn table_csv(&self, id: &str) -> Result<String, JsError> {
+        let analysis = self
+            .report
+            .as_ref()
+            .ok_or_else(|| js_err("no analysis yet"))?;
+        rungs_core::export::table_csv(analysis, self.data.as_ref(), id).map_err(js_err)
+    }
+
     /// The current analysis settings.
     pub fn settings(&self) -> Result<JsValue, JsError> {
         to_js(&self.current()?.0.settings)
@@ -462,6 +544,7 @@ impl Workbench {
     fn install(&mut self, session: Session) -> Result<JsValue, JsError> {
         let data = session.data().map_err(js_err)?;
         self.report = None;
+        self.report_json = None;
         self.session = Some(session);
         self.data = Some(data);
         self.reading()

@@ -850,6 +850,8 @@ pub fn analyze_bands_with_progress(
         warnings,
         plot,
         rows: None,
+        input_sha256: None,
+        methods: None,
         session: None,
     })
 }

@@ -316,6 +316,12 @@ pub struct BandReport {
     /// Every input row not used, with its reason.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub rows: Option<RowsSummary>,
+    /// SHA-256 of the input text (hex), so a result can be tied to the exact data it came from.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub input_sha256: Option<String>,
+    /// A methods paragraph naming the published methods used, with references.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub methods: Option<crate::methods::Methods>,
     /// The session that produced this document.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub session: Option<crate::session::Session>,

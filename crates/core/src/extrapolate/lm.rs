@@ -379,8 +379,11 @@ pub fn solve<M: LmModel<P>, const P: usize>(
                 trial[k] += delta[k];
             }
             let ok = trial.iter().all(|x| x.is_finite()) && model.valid(&trial, v);
+            // The trial is evaluated with its Jacobian: when it is accepted (the common case)
+            // nothing needs evaluating again; when it is rejected, the next step is solved from
+            // the matrices already built at θ, so overwriting the workspace does no harm.
             let chi2_new = if ok {
-                evaluate(model, v, e, w, &trial, ws, false)
+                evaluate(model, v, e, w, &trial, ws, true)
             } else {
                 f64::INFINITY
             };
@@ -396,7 +399,7 @@ pub fn solve<M: LmModel<P>, const P: usize>(
             if rho > 0.0 {
                 let old = chi2;
                 theta = trial;
-                chi2 = evaluate(model, v, e, w, &theta, ws, true);
+                chi2 = chi2_new;
                 (a, g) = normal_eqs::<P>(ws, m);
                 lambda *= (1.0f64 / 3.0).max(1.0 - (2.0 * rho - 1.0).powi(3));
                 nu = 2.0;

@@ -302,6 +302,19 @@ pub struct IntakeOptions {
     /// Rows excluded by the user.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub exclusions: Vec<UserExclusion>,
+    /// Uncertainties set by the user, replacing what the table says.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub sigmas: Vec<SigmaEdit>,
+}
+
+/// A σ the user typed for one row, in the unit of that row's value column (as the table shows
+/// the value), replacing the table's σ for the analyses. The table text itself is never changed.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SigmaEdit {
+    /// Row number (line number of the input).
+    pub row: usize,
+    /// The new one-standard-deviation uncertainty, in the value column's unit (> 0).
+    pub sigma: f64,
 }
 
 impl IntakeOptions {
@@ -313,6 +326,18 @@ impl IntakeOptions {
             reason: reason.into(),
         });
         sort_by_key(&mut self.exclusions, |e| e.row);
+    }
+
+    /// Sets the σ of a row (in its value column's unit), replacing an earlier edit of that row.
+    pub fn set_sigma(&mut self, row: usize, sigma: f64) {
+        self.clear_sigma(row);
+        self.sigmas.push(SigmaEdit { row, sigma });
+        self.sigmas.sort_by_key(|e| e.row);
+    }
+
+    /// Takes back a σ edit of a row (the table's σ applies again).
+    pub fn clear_sigma(&mut self, row: usize) {
+        self.sigmas.retain(|e| e.row != row);
     }
 
     /// Takes back a user exclusion of a row.
@@ -540,6 +565,9 @@ pub struct DataSet {
     pub rows: Vec<Row>,
     /// Remarks.
     pub diagnostics: Vec<Diagnostic>,
+    /// σ values the user typed (applied to the rows that exist).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub sigma_edits: Vec<SigmaEdit>,
 }
 
 impl DataSet {
@@ -704,6 +732,7 @@ impl DataSet {
                     })
                 })
                 .collect(),
+            sigmas: self.sigma_edits.clone(),
         }
     }
 }
@@ -916,7 +945,13 @@ pub fn read_table(text: &str, options: &IntakeOptions) -> Result<DataSet> {
     let mut rows = Vec::with_capacity(data.len());
     let mut decimal_commas = 0usize;
     for rec in data {
-        let (row, commas) = plan.read_row(rec, ncols, decimal_comma_allowed, &mut diagnostics);
+        let edited = options
+            .sigmas
+            .iter()
+            .find(|e| e.row == rec.line)
+            .map(|e| e.sigma);
+        let (row, commas) =
+            plan.read_row(rec, ncols, decimal_comma_allowed, edited, &mut diagnostics);
         decimal_commas += commas;
         rows.push(row);
     }
@@ -943,6 +978,12 @@ pub fn read_table(text: &str, options: &IntakeOptions) -> Result<DataSet> {
         delimiter: raw.delimiter,
         header_row: header.map(|h| h.0),
         header_in_comment,
+        sigma_edits: options
+            .sigmas
+            .iter()
+            .filter(|e| rows.iter().any(|r| r.line == e.row))
+            .cloned()
+            .collect(),
         columns,
         rows,
         diagnostics,

@@ -57,6 +57,7 @@ impl Plan {
         rec: &table::Record,
         ncols: usize,
         decimal_comma: bool,
+        sigma_edit: Option<f64>,
         diagnostics: &mut Vec<Diagnostic>,
     ) -> (Row, usize) {
         let mut problems = Vec::new();
@@ -146,14 +147,18 @@ impl Plan {
 
         // σ: the σ column, else an uncertainty written in the value cell.
         let mut sigma_cm1 = None;
-        let sigma_source = match self.sigma {
-            Some((si, su)) => match parse_number(cell(si), decimal_comma) {
-                Ok(n) => {
-                    commas += usize::from(n.decimal_comma);
-                    if let Some(inl) = inline_sigma
-                        && (inl - n.value).abs() > 1e-12 * n.value.abs()
-                    {
-                        diagnostics.push(Diagnostic {
+        // A σ typed by the user wins over the table; it is in the value column's unit.
+        let sigma_source = if let Some(s) = sigma_edit {
+            Some((self.sigma.map_or(vi, |(si, _)| si), vunit, s))
+        } else {
+            match self.sigma {
+                Some((si, su)) => match parse_number(cell(si), decimal_comma) {
+                    Ok(n) => {
+                        commas += usize::from(n.decimal_comma);
+                        if let Some(inl) = inline_sigma
+                            && (inl - n.value).abs() > 1e-12 * n.value.abs()
+                        {
+                            diagnostics.push(Diagnostic {
                                 severity: Severity::Warning,
                                 row: Some(rec.line),
                                 column: Some(si + 1),
@@ -162,16 +167,17 @@ impl Plan {
                                     rec.line, n.value
                                 ),
                             });
+                        }
+                        Some((si, su, n.value))
                     }
-                    Some((si, su, n.value))
-                }
-                Err(NumError::Missing) => inline_sigma.map(|s| (vi, vunit, s)),
-                Err(e) => {
-                    problems.push(number_problem(si, e, cell(si), "uncertainty"));
-                    None
-                }
-            },
-            None => inline_sigma.map(|s| (vi, vunit, s)),
+                    Err(NumError::Missing) => inline_sigma.map(|s| (vi, vunit, s)),
+                    Err(e) => {
+                        problems.push(number_problem(si, e, cell(si), "uncertainty"));
+                        None
+                    }
+                },
+                None => inline_sigma.map(|s| (vi, vunit, s)),
+            }
         };
         if let Some((si, su, s)) = sigma_source {
             if s <= 0.0 {

@@ -285,3 +285,33 @@ fn a_bad_first_row_is_not_taken_for_a_header() {
     assert_eq!(d.rows[0].problems[0].code, ProblemCode::NotANumber);
     assert_eq!(d.usable_count(), 3);
 }
+
+/// A σ typed by the user replaces the table's σ, in the value column's unit (here eV, converted
+/// with the CODATA 2022 factor 1 eV = 8065.543937 cm⁻¹, scipy.constants), survives the resolved
+/// options, and a non-positive one makes the row unusable with a reason.
+#[test]
+fn sigma_edits_replace_the_table_sigma() {
+    let text = "v,E (eV),sigma\n0,0,0.001\n1,0.25,0.001\n2,0.49,0.001\n3,0.72,0.001\n";
+    let mut o = IntakeOptions::default();
+    o.set_sigma(3, 0.002);
+    o.set_sigma(4, -1.0);
+    let d = read_table(text, &o).unwrap();
+    let levels = d.levels().unwrap();
+    let l1 = levels.iter().find(|l| l.v == 1).unwrap();
+    assert!((l1.sigma_cm1.unwrap() - 0.002 * 8_065.543_937_349).abs() < 1e-9);
+    let l0 = levels.iter().find(|l| l.v == 0).unwrap();
+    assert!((l0.sigma_cm1.unwrap() - 0.001 * 8_065.543_937_349).abs() < 1e-9);
+    let row4 = d.rows.iter().find(|r| r.line == 4).unwrap();
+    assert!(!row4.is_usable() && row4.problems[0].message.contains("positive"));
+    assert_eq!(d.sigma_edits.len(), 2);
+    let again = read_table(text, &d.resolved_options()).unwrap();
+    assert_eq!(again.rows, d.rows);
+    o.clear_sigma(4);
+    assert!(
+        read_table(text, &o)
+            .unwrap()
+            .rows
+            .iter()
+            .all(|r| r.is_usable())
+    );
+}

@@ -36,7 +36,9 @@ pub enum RotationInput {
     /// Dunham-style coefficients Y_k1 (cm⁻¹): B(v) = Σ_k Y_k1 (v+½)^k, i.e. [Be, −αe, γe, …].
     Dunham(Vec<f64>),
     /// Per-level values (v, B_v in cm⁻¹). They are smoothed by an unweighted least-squares
-    /// polynomial in (v+½) of degree min(number of values − 1, 3) before integration.
+    /// polynomial in (v+½) before integration: degree min(n − 1, 3) for n < 20 values, 6 from 20
+    /// values on (a cubic is too stiff for B_v over a wide range of v — see the closing-the-loop
+    /// test on Morse levels — while a high degree on few values wiggles at the ends).
     PerLevel(Vec<(f64, f64)>),
 }
 
@@ -307,7 +309,9 @@ fn fit_b_levels(vals: &[(f64, f64)]) -> Result<Vec<f64>> {
             message: "B_v must be a positive number".into(),
         });
     }
-    let p = vals.len().min(4);
+    // Cubic for fewer than 20 values, sextic from 20 on (a wide v range needs the freedom).
+    let degree = if vals.len() < 20 { 3 } else { 6 };
+    let p = (vals.len() - 1).min(degree) + 1;
     let design = DMatrix::from_fn(vals.len(), p, |i, k| (vals[i].0 + 0.5).powi(k as i32));
     let y: Vec<f64> = vals.iter().map(|v| v.1).collect();
     Ok(fit(&design, &y, Weights::Unit)?.params)
