@@ -16,7 +16,6 @@ import { openTables, openShare, printReport, sessionFromUrl } from './js/exports
 
 const state = {
   report: null,
-  reportJson: null,
   unit: 'cm-1',
   unitLabel: 'cm⁻¹',
   analysing: null,
@@ -80,12 +79,21 @@ async function boot() {
     }
   }
 
+  /** No stale numbers: results of an earlier table disappear as soon as they no longer apply. */
+  function forgetResults() {
+    state.report = null;
+    $('results').hidden = true;
+    for (const id of ['export-csv', 'print-report']) $(id).disabled = true;
+  }
+
   async function afterReading(reading) {
     data.show(reading);
     settings.show(await rpc.call('settings'), reading.kind);
     for (const id of ['export-json', 'share-link']) $(id).disabled = false;
     if (reading.usable_error) {
+      forgetResults();
       status(`Not enough usable data: ${reading.usable_error}`, 'error');
+      document.body.dataset.state = 'failed';
       return;
     }
     await analyse();
@@ -99,11 +107,12 @@ async function boot() {
       json = await rpc.call('analyze');
     } catch (err) {
       $('progress').hidden = true;
+      forgetResults();
       status(`The analysis failed: ${err.message}`, 'error');
+      document.body.dataset.state = 'failed';
       return;
     }
     $('progress').hidden = true;
-    state.reportJson = json;
     state.report = JSON.parse(json);
     renderResults();
     await figures.refresh(state.unit);

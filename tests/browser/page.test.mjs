@@ -349,3 +349,17 @@ test('every control is labelled and reachable by keyboard; the page fits 1280×8
   clean(problems);
   await context.close();
 });
+
+test('a table that cannot be analysed clears the earlier result instead of leaving it on screen', async () => {
+  const { page, problems, context } = await fresh();
+  assert.equal(await page.isVisible('#results'), true);
+  await mark(page);
+  await page.setInputFiles('#file-input', { name: 'two-rows.csv', mimeType: 'text/csv', buffer: Buffer.from('v,E\n0,0\n1,990\n') });
+  await page.waitForFunction(() => document.body.dataset.state === 'failed');
+  assert.equal(await page.isVisible('#results'), false, 'no stale result');
+  assert.match(await page.textContent('#status'), /usable|at least/i);
+  // The rows are still shown, with what was read.
+  assert.match(await page.textContent('#reading'), /two-rows\.csv/);
+  clean(problems);
+  await context.close();
+});

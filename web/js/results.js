@@ -128,28 +128,30 @@ export class Results {
   }
 
   estimatesTable(report, u, label) {
-    const head = ['method', `D0 / ${label}`, `De / ${label}`, 'v_D', 'bound levels', 'extrapolated', `MC median [16 %, 84 %] / ${label}`, 'in recommendation', 'note'];
-    const rows = report.estimates.map((e) => {
+    const head = ['method', `D0 / ${label}`, `De / ${label}`, 'v_D', 'bound levels', 'extrap­olated', `MC median [16 %, 84 %] / ${label}`, 'in the recom­mendation'];
+    const body = [];
+    for (const e of report.estimates) {
       const mc = e.monte_carlo?.d0;
       const mcText = mc && mc.median !== null
         ? `${this.energy(mc.median, null, u)[0]} [${mc.p16 === null ? '—' : this.energy(mc.p16, null, u)[0]}, ${mc.p84 === null ? '—' : this.energy(mc.p84, null, u)[0]}]`
         : '—';
-      return {
-        class: e.defensible ? 'defensible' : 'other',
-        cells: [
-          { text: e.label, title: e.method },
-          { text: e.d0_cm1 === null ? '—' : this.pm(e.d0_cm1, e.d0_sigma_cm1, u), class: 'num' },
-          { text: e.de_cm1 === null ? '—' : this.pm(e.de_cm1, e.de_sigma_cm1, u), class: 'num' },
-          { text: e.v_d === null ? '—' : this.num(e.v_d, e.v_d_sigma, 4), class: 'num' },
-          { text: e.n_bound ?? '—', class: 'num' },
-          { text: e.extrapolated_fraction === null ? '—' : `${(100 * e.extrapolated_fraction).toFixed(1)} %`, class: 'num' },
-          { text: mcText, class: 'num' },
-          e.defensible ? 'yes' : 'no',
-          { text: e.defensible ? e.defensible_reason : `${e.reason}; ${e.defensible_reason}`, class: 'note' },
-        ],
-      };
-    });
-    return table(head, rows, 'σ: one standard deviation from the data covariance (statistical only)');
+      const cls = e.defensible ? 'defensible' : 'other';
+      body.push(el('tr', { class: `${cls} main`, 'data-method': e.method },
+        el('th', { scope: 'row', title: e.method }, e.label),
+        el('td', { class: 'num' }, e.d0_cm1 === null ? '—' : this.pm(e.d0_cm1, e.d0_sigma_cm1, u)),
+        el('td', { class: 'num' }, e.de_cm1 === null ? '—' : this.pm(e.de_cm1, e.de_sigma_cm1, u)),
+        el('td', { class: 'num' }, e.v_d === null ? '—' : this.num(e.v_d, e.v_d_sigma, 4)),
+        el('td', { class: 'num' }, e.n_bound ?? '—'),
+        el('td', { class: 'num' }, e.extrapolated_fraction === null ? '—' : `${(100 * e.extrapolated_fraction).toFixed(1)} %`),
+        el('td', { class: 'num' }, mcText),
+        el('td', {}, e.defensible ? 'yes' : 'no')));
+      body.push(el('tr', { class: `${cls} note-row` },
+        el('td', { colspan: head.length, class: 'note' }, e.defensible ? e.defensible_reason : `${e.reason}; ${e.defensible_reason}`)));
+    }
+    return el('table', { class: 'estimates' },
+      el('caption', {}, 'σ: one standard deviation from the data covariance (statistical only)'),
+      el('thead', {}, el('tr', {}, head.map((h) => el('th', { scope: 'col' }, h)))),
+      el('tbody', {}, body));
   }
 
   constantsTables(c, m, u, label) {

@@ -436,7 +436,7 @@ fn run(
     };
     if source != SigmaSource::EstimatedFromScatter && factor2 > 1.0 {
         warnings.push(format!(
-            "χ²_ν = {:.3} of the order-{k_sel} fit: the data scatter more than their σ; all σ are scaled by {:.3}",
+            "χ²_ν = {:.3} of the order-{k_sel} fit: either the data scatter more than their σ or the polynomial does not describe them (near dissociation usually the latter); all statistical σ are scaled by {:.3}, which then also carries that misfit (set the σ scaling to 'never' to trust the given σ)",
             factor2,
             factor2.sqrt()
         ));

@@ -176,7 +176,7 @@ pub fn spacings(report: &Report, scale: EnergyScale) -> XyChart {
             "{}ΔG_(v+½) = G(v+1) − G(v) plotted at x = v + ½ (v_D sits where a straight line reaches zero); dashed: not in the recommendation",
             synthetic_note(report)
         ),
-        legend: Legend::LowerLeft,
+        legend: Legend::UpperRight,
         x_ticks: true,
     }
 }

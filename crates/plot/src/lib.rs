@@ -502,14 +502,14 @@ fn compose(
                     });
                 }
                 if !text.is_empty() {
-                    // Stagger the labels of successive rules so neighbours stay readable.
+                    // Labels sit near the bottom (legends go top right), staggered so neighbours stay readable.
                     let drop = 0.02 + 0.045 * (v_rules % 6) as f64;
                     v_rules += 1;
                     let font = ("sans-serif", 12.0 * s).into_font().color(&colour);
                     ctx.draw_series(std::iter::once(Text::new(
                         text.clone(),
-                        (*x, y1 - (y1 - y0) * drop),
-                        font.pos(Pos::new(HPos::Right, VPos::Top)),
+                        (*x, y0 + (y1 - y0) * drop),
+                        font.pos(Pos::new(HPos::Right, VPos::Bottom)),
                     )))
                     .map_err(backend_err)?;
                 }
