@@ -332,7 +332,7 @@ impl IntakeOptions {
     pub fn set_sigma(&mut self, row: usize, sigma: f64) {
         self.clear_sigma(row);
         self.sigmas.push(SigmaEdit { row, sigma });
-        self.sigmas.sort_by_key(|e| e.row);
+        sort_by_key(&mut self.sigmas, |e| e.row);
     }
 
     /// Takes back a σ edit of a row (the table's σ applies again).
