@@ -5,20 +5,47 @@ SOURCE: periodictable (its isotope masses are the AME 2020 atomic mass evaluatio
 Chinese Phys. C 45, 030003 (2021), rounded table `massround.mas20`; natural abundances from the
 CIAAW 2021 isotopic compositions, as documented in `periodictable.mass`).
 
-Elements: Z = 1 (H) … 54 (Xe), plus Cs, Hg, Pb, U (Rb and I lie inside H…Xe). Every isotope that
-periodictable lists for these elements is written, stable or not.
+Elements: Z = 1 (H) … 54 (Xe), plus Cs, Hg, Pb, U (Rb and I lie inside H…Xe).
+
+Which nuclides (the rule; a short table keeps the browser module small):
+  1. every nuclide with a natural abundance listed by periodictable (CIAAW 2021), and
+  2. every radionuclide of these elements whose ground-state half-life is at least one day
+     (HALF_LIFE_MIN_DAYS), half-lives from the Python package `radioactivedecay` (its default
+     data set: ICRP Publication 107 decay data with AME 2020 / NUBASE 2020 updates). This keeps
+     tritium, 14C, 99Tc, 129I, 137Cs, 210Pb, 232…238U and the like; it drops the short-lived
+     nuclides no diatomic molecule is measured with. Masses always come from periodictable.
 
 Usage:  python3 scripts/gen_masses.py            (rewrites the table in place)
         python3 scripts/gen_masses.py --check    (exit 1 if the committed table differs)
+Needs:  pip install periodictable==2.1.0 radioactivedecay==0.6.1
+
 """
 
 import pathlib
 import sys
 
 import periodictable
+import radioactivedecay
 
 ELEMENTS_Z = list(range(1, 55)) + [55, 80, 82, 92]
+HALF_LIFE_MIN_DAYS = 1.0
 OUT = pathlib.Path(__file__).resolve().parent.parent / "crates/core/src/masses_table.rs"
+
+
+def half_life_days(symbol: str, a: int):
+    """Ground-state half-life in days, or None when the decay data do not list the nuclide."""
+    try:
+        return radioactivedecay.Nuclide(f"{symbol}-{a}").half_life("d")
+    except ValueError:
+        return None
+
+
+def kept(symbol: str, a: int, abundance: float) -> bool:
+    """The selection rule of the module docstring."""
+    if abundance > 0.0:
+        return True
+    t = half_life_days(symbol, a)
+    return t is not None and t >= HALF_LIFE_MIN_DAYS
 
 
 def render() -> str:
@@ -30,6 +57,11 @@ def render() -> str:
         "//! whose isotope masses are the AME 2020 atomic mass evaluation (M. Wang et al.,",
         "//! Chinese Phys. C 45, 030003 (2021), rounded table) and whose abundances are the CIAAW 2021",
         "//! isotopic compositions. Regenerate with `python3 scripts/gen_masses.py`.",
+        "//!",
+        "//! Nuclides kept: every one with a natural abundance, plus every radionuclide with a",
+        f"//! half-life of at least {HALF_LIFE_MIN_DAYS:g} day (half-lives from `radioactivedecay` "
+        f"{radioactivedecay.__version__},",
+        "//! ICRP 107 / NUBASE 2020 data).",
         "",
         "/// Where the masses come from, for reports.",
         "pub(crate) const SOURCE: &str = concat!(",
@@ -56,6 +88,8 @@ def render() -> str:
         for iso in el:
             mass = float(iso.mass)
             ab = float(getattr(iso, "abundance", 0.0) or 0.0)
+            if not kept(el.symbol, iso.isotope, ab):
+                continue
             mass_lit = repr(mass)
             ab_lit = repr(ab)
             if "." not in mass_lit and "e" not in mass_lit:

@@ -56,7 +56,11 @@ build_wasm() {
     ensure_wasm_bindgen
     ensure_npm
     say "building the release wasm module"
-    (cd "$ROOT" && cargo build --profile "$WASM_PROFILE" --target "$WASM_TARGET" -p rungs-wasm)
+    # `cargo rustc --crate-type cdylib`, not `cargo build`: the crate also declares an rlib, and
+    # when rustc emits both crate types it silently skips LTO for the cdylib as well
+    # (rust-lang/rust#51009, rust-lang/cargo#9672), which made the module ~10 % larger gzipped.
+    (cd "$ROOT" && cargo rustc --profile "$WASM_PROFILE" --target "$WASM_TARGET" -p rungs-wasm \
+        --lib --crate-type cdylib)
     local raw="$ROOT/target/$WASM_TARGET/$WASM_PROFILE/rungs_wasm.wasm"
     rm -rf "$ROOT/web/pkg"
     wasm-bindgen --target web --no-typescript --remove-name-section --remove-producers-section \

@@ -19,6 +19,8 @@ Writes crates/core/data/demo/:
                            readable from the tags: give them, see the header)
   qz2-bands.session.json   a session document: the same table with the settings that name the
                            isotopologues' atoms, the prediction and the atomic excitation energy
+  qz2-bands.settings.json  those settings alone (the built-in example pairs them with the CSV,
+                           so the browser module does not carry the table twice)
   qz2-bands.truth.json     the invented model's true constants, for tests
 
 Usage: python3 scripts/make_band_demo.py
@@ -126,6 +128,14 @@ def main():
     os.makedirs(OUT, exist_ok=True)
     with open(os.path.join(OUT, "qz2-bands.csv"), "w") as f:
         f.write(text)
+    settings = {
+        "mc_samples": 500,
+        "bands": {
+            "isotopologues": ISOTOPOLOGUES + [PREDICT],
+            "predict": [PREDICT["tag"]],
+            "atomic_excitation_cm1": round(e_atom, 3),
+        },
+    }
     session = {
         "schema": "rungs-session",
         "version": 1,
@@ -133,17 +143,13 @@ def main():
         "codata_year": 2022,
         "input": {"name": "qz2-bands.csv", "text": text},
         "intake": {},
-        "settings": {
-            "mc_samples": 500,
-            "bands": {
-                "isotopologues": ISOTOPOLOGUES + [PREDICT],
-                "predict": [PREDICT["tag"]],
-                "atomic_excitation_cm1": round(e_atom, 3),
-            },
-        },
+        "settings": settings,
     }
     with open(os.path.join(OUT, "qz2-bands.session.json"), "w") as f:
         json.dump(session, f, indent=1, ensure_ascii=False)
+        f.write("\n")
+    with open(os.path.join(OUT, "qz2-bands.settings.json"), "w") as f:
+        json.dump(settings, f, indent=1, ensure_ascii=False)
         f.write("\n")
     truth = {
         "note": "SYNTHETIC: true values of the invented model behind qz2-bands.csv (reference 29Qz2)",

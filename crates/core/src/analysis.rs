@@ -24,6 +24,7 @@ use crate::montecarlo::{self, McResult};
 use crate::recommend::{self, Candidate, Family};
 use crate::report::*;
 use crate::settings::{AnalysisSettings, SigmaScaling};
+use crate::sorting::sort_by_key;
 use crate::spacings::{LevelView, spacings_from_levels};
 use crate::{Error, Result};
 
@@ -56,7 +57,7 @@ pub fn analyze_levels_with_progress(
     }
     check_isotopologues(levels.iter().map(|l| l.isotopologue.as_deref()))?;
     let mut idx: Vec<usize> = (0..levels.len()).collect();
-    idx.sort_by_key(|&i| levels[i].v);
+    sort_by_key(&mut idx, |&i| levels[i].v);
     for w in idx.windows(2) {
         if levels[w[0]].v == levels[w[1]].v {
             return Err(Error::parameter(
@@ -121,7 +122,7 @@ pub fn analyze_spacings_with_progress(
     }
     check_isotopologues(spacings.iter().map(|l| l.isotopologue.as_deref()))?;
     let mut idx: Vec<usize> = (0..spacings.len()).collect();
-    idx.sort_by_key(|&i| spacings[i].v_lower);
+    sort_by_key(&mut idx, |&i| spacings[i].v_lower);
     for w in idx.windows(2) {
         if spacings[w[0]].v_lower == spacings[w[1]].v_lower {
             return Err(Error::parameter(

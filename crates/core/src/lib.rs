@@ -35,6 +35,7 @@ pub mod recommend;
 pub mod report;
 pub mod session;
 pub mod settings;
+mod sorting;
 pub mod spacings;
 pub mod units;
 

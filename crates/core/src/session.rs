@@ -210,7 +210,7 @@ impl Session {
                 });
             }
         }
-        serde_json::from_value(value).map_err(|e| Error::Document {
+        serde_json::from_str(text).map_err(|e| Error::Document {
             message: format!("{SESSION_SCHEMA} {SESSION_VERSION}: {e}"),
         })
     }

@@ -21,6 +21,9 @@ use serde::{Deserialize, Serialize};
 pub use plotters::prelude::{DrawingArea, DrawingBackend};
 
 pub mod figures;
+mod record;
+
+use record::{Recorder, Recording, Replay};
 
 /// The Okabe–Ito palette (black first), as RGB.
 pub const PALETTE: [(u8, u8, u8); 8] = [
@@ -306,11 +309,37 @@ fn padded((lo, hi): (f64, f64), frac: f64) -> (f64, f64) {
 }
 
 /// Draw `chart` on `area`. Returns where the data landed, for pointer read-outs.
+///
+/// The chart is laid out and drawn once on a recording backend and the recorded calls are then
+/// made on `area`'s backend (see the `record` module): the output is the same as drawing directly, and
+/// the browser module carries one compiled copy of the chart code instead of one per backend.
 pub fn draw<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     chart: &XyChart,
     theme: Theme,
 ) -> Result<Frame, PlotError> {
+    let mut recording = Recording::default();
+    let frame = compose(
+        recording.recorder(area.dim_in_pixel()).into_drawing_area(),
+        chart,
+        theme,
+    );
+    area.draw(&Replay(&recording)).map_err(backend_err)?;
+    let (x0, y0) = area.get_base_pixel();
+    frame.map(|f| Frame {
+        left_px: f.left_px + x0,
+        top_px: f.top_px + y0,
+        ..f
+    })
+}
+
+/// The chart code proper, on the recording backend.
+fn compose(
+    area: DrawingArea<Recorder<'_>, Shift>,
+    chart: &XyChart,
+    theme: Theme,
+) -> Result<Frame, PlotError> {
+    let area = &area;
     let s = theme.scale.max(0.25);
     let px = |v: f64| (v * s).round().max(1.0) as u32;
     area.fill(&WHITE).map_err(backend_err)?;

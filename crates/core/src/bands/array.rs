@@ -35,6 +35,7 @@ use super::heads::HeadOffset;
 use super::terms::{self, TermFit};
 use crate::Result;
 use crate::settings::SigmaScaling;
+use crate::sorting::{sort, sort_by_key};
 
 /// Widest span of v (in either direction) drawn as a dense grid; wider arrays list only the
 /// observed values.
@@ -166,7 +167,7 @@ pub struct DeslandresArray {
 
 fn headings(values: impl Iterator<Item = u32>) -> (Vec<u32>, bool) {
     let mut v: Vec<u32> = values.collect();
-    v.sort_unstable();
+    sort(&mut v);
     v.dedup();
     match (v.first(), v.last()) {
         (Some(&lo), Some(&hi)) if hi - lo <= DENSE_SPAN_MAX => ((lo..=hi).collect(), true),
@@ -334,8 +335,8 @@ pub fn build(
             ));
         }
     }
-    upper_d.sort_by_key(|d| (d.v_upper, d.v_lower));
-    lower_d.sort_by_key(|d| (d.v_lower, d.v_upper));
+    sort_by_key(&mut upper_d, |d| (d.v_upper, d.v_lower));
+    sort_by_key(&mut lower_d, |d| (d.v_lower, d.v_upper));
 
     // Chain breaks per cell.
     let mut tally = |vu_a: u32, vl_a: u32, vu_b: u32, vl_b: u32, d: &ChainDifference| {
@@ -412,7 +413,7 @@ pub fn build(
             });
         }
     }
-    flagged.sort_by_key(|f| (f.v_lower, f.v_upper));
+    sort_by_key(&mut flagged, |f| (f.v_lower, f.v_upper));
 
     let mut note = match (&clean, f2) {
         (Some(f), Some(f2)) => format!(

@@ -28,6 +28,7 @@ use serde::{Deserialize, Serialize};
 use crate::dunham::{ChebBasis, F_TEST_ALPHA, MAX_SUPPORTED_ORDER, f_sf_general};
 use crate::extrapolate::Lin;
 use crate::lsq::{self, LinearFit, Weights};
+use crate::sorting::sort_by;
 use crate::{Error, Result};
 
 /// One band as the global fit sees it.
@@ -446,7 +447,7 @@ pub fn select_orders(
     }
     // Candidates from the simplest; a candidate is beaten by any larger nested pair with p < α.
     let mut order: Vec<usize> = (0..rows.len()).collect();
-    order.sort_by(|&a, &b| {
+    sort_by(&mut order, |&a, &b| {
         rows[a]
             .n_params
             .cmp(&rows[b].n_params)

@@ -41,6 +41,7 @@ use crate::extrapolate::Lin;
 use crate::intake::BandPositions;
 use crate::report::{Constant, Constants, DunhamCoefficient, PlotPoint, Report, ValueSigma};
 use crate::settings::{AnalysisSettings, SigmaScaling};
+use crate::sorting::sort;
 use crate::{Error, Result};
 
 use global::{GlobalBand, GlobalFit};
@@ -166,7 +167,7 @@ fn validate(bands: &[Band]) -> Result<()> {
             [(t, true, b.v_upper), (t, false, b.v_lower)]
         })
         .collect();
-    levels.sort();
+    sort(&mut levels);
     levels.dedup();
     let mut per_tag: Vec<(Option<&str>, usize)> = Vec::new();
     for (t, _, _) in &levels {
@@ -221,7 +222,7 @@ fn validate(bands: &[Band]) -> Result<()> {
         .iter()
         .map(|b| (b.isotopologue.as_deref(), b.v_upper, b.v_lower))
         .collect();
-    keys.sort();
+    sort(&mut keys);
     for w in keys.windows(2) {
         if w[0] == w[1] {
             return Err(Error::parameter(
@@ -752,7 +753,7 @@ pub fn analyze_bands_with_progress(
             .iter()
             .flat_map(|g| g.prepared.iter().map(|p| (p.v_upper, p.v_lower)))
             .collect();
-        c.sort_unstable();
+        sort(&mut c);
         c.dedup();
         c
     };

@@ -23,6 +23,7 @@ use serde::{Deserialize, Serialize};
 
 use super::global::{GlobalBand, GlobalFit, fit_global};
 use crate::Result;
+use crate::sorting::sort_by;
 
 /// The trial offsets.
 pub const OFFSETS: std::ops::RangeInclusive<i32> = -3..=3;
@@ -197,7 +198,7 @@ pub fn check(
                 .map(|c| (r.offset, c, r.chi2_reduced, r.zero_point_ok != Some(false)))
         })
         .collect();
-    ranked.sort_by(|a, b| a.1.total_cmp(&b.1));
+    sort_by(&mut ranked, |a, b| a.1.total_cmp(&b.1));
     let best_chi2 = ranked.first().map(|r| r.1);
     for r in &mut rows {
         if let (Some(c), Some(b)) = (r.chi2, best_chi2) {

@@ -19,6 +19,7 @@ use nalgebra::{DMatrix, DVector};
 use super::PreparedBand;
 use crate::lsq::{self, LinearFit, Weights};
 use crate::settings::SigmaScaling;
+use crate::sorting::{sort, sort_by_key};
 use crate::{Error, Result};
 
 /// A term-value fit of one isotopologue's bands.
@@ -168,17 +169,17 @@ pub fn components(bands: &[PreparedBand], idx: &[usize]) -> Vec<Vec<usize>> {
         }
     }
     let mut out: Vec<Vec<usize>> = groups.into_iter().map(|g| g.1).collect();
-    out.sort_by_key(|g| std::cmp::Reverse(g.len()));
+    sort_by_key(&mut out, |g| std::cmp::Reverse(g.len()));
     out
 }
 
 /// Fits term values to the bands `idx` (indices into `bands`, one connected part).
 pub fn fit_terms(bands: &[PreparedBand], idx: &[usize]) -> Result<TermFit> {
     let mut upper_v: Vec<u32> = idx.iter().map(|&i| bands[i].v_upper).collect();
-    upper_v.sort_unstable();
+    sort(&mut upper_v);
     upper_v.dedup();
     let mut lower_v: Vec<u32> = idx.iter().map(|&i| bands[i].v_lower).collect();
-    lower_v.sort_unstable();
+    sort(&mut lower_v);
     lower_v.dedup();
     let p = upper_v.len() + lower_v.len() - 1;
     let n = idx.len();

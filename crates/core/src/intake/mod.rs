@@ -28,6 +28,7 @@ use serde::{Deserialize, Serialize};
 
 use crate::data::{Band, Level, Spacing};
 use crate::error::{Error, Result};
+use crate::sorting::sort_by_key;
 use crate::units::{Medium, Unit, UnitText};
 use cell::{NumError, parse_number};
 use columns::*;
@@ -324,14 +325,14 @@ impl IntakeOptions {
             row,
             reason: reason.into(),
         });
-        self.exclusions.sort_by_key(|e| e.row);
+        sort_by_key(&mut self.exclusions, |e| e.row);
     }
 
     /// Sets the σ of a row (in its value column's unit), replacing an earlier edit of that row.
     pub fn set_sigma(&mut self, row: usize, sigma: f64) {
         self.clear_sigma(row);
         self.sigmas.push(SigmaEdit { row, sigma });
-        self.sigmas.sort_by_key(|e| e.row);
+        sort_by_key(&mut self.sigmas, |e| e.row);
     }
 
     /// Takes back a σ edit of a row (the table's σ applies again).
@@ -355,7 +356,7 @@ impl IntakeOptions {
             }
         } else {
             self.columns.push(ColumnOverride { column, role, unit });
-            self.columns.sort_by_key(|c| c.column);
+            sort_by_key(&mut self.columns, |c| c.column);
         }
     }
 }

@@ -15,6 +15,7 @@ use crate::constants::{
     AVOGADRO_PER_MOL, BOHR_ANGSTROM, ELEMENTARY_CHARGE_C, HARTREE_CM1, PLANCK_J_S,
     SPEED_OF_LIGHT_M_S,
 };
+use crate::sorting::sort_by;
 use crate::{Error, Result};
 
 /// Unit of the distance column of a pointwise table.
@@ -196,7 +197,7 @@ impl PointwisePotential {
                 message: "point is not finite or has r ≤ 0".into(),
             });
         }
-        pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+        sort_by(&mut pts, |a, b| a.0.total_cmp(&b.0));
         if let Some(w) = pts.windows(2).find(|w| w[0].0 == w[1].0) {
             return Err(Error::parameter(
                 "r",
