@@ -459,13 +459,7 @@ fn compose(
                 if !layer.label.is_empty() {
                     any_label = true;
                     let d = *dash;
-                    annotated.label(&layer.label).legend(move |(x, y)| {
-                        let p = swatch(d, s);
-                        EmptyElement::at((x, y))
-                            + PathElement::new(vec![(p[0].0, 0), (p[0].1, 0)], style)
-                            + PathElement::new(vec![(p[1].0, 0), (p[1].1, 0)], style)
-                            + PathElement::new(vec![(p[2].0, 0), (p[2].1, 0)], style)
-                    });
+                    line_legend!(annotated, &layer.label, d, style, s);
                 }
             }
             Mark::Segments { segments, dash } => {
@@ -475,13 +469,7 @@ fn compose(
                     if first && !layer.label.is_empty() {
                         any_label = true;
                         let d = *dash;
-                        annotated.label(&layer.label).legend(move |(x, y)| {
-                            let p = swatch(d, s);
-                            EmptyElement::at((x, y))
-                                + PathElement::new(vec![(p[0].0, 0), (p[0].1, 0)], style)
-                                + PathElement::new(vec![(p[1].0, 0), (p[1].1, 0)], style)
-                                + PathElement::new(vec![(p[2].0, 0), (p[2].1, 0)], style)
-                        });
+                        line_legend!(annotated, &layer.label, d, style, s);
                     }
                     first = false;
                 }
@@ -493,13 +481,7 @@ fn compose(
                 if !layer.label.is_empty() {
                     any_label = true;
                     let d = Dash::Dotted;
-                    annotated.label(&layer.label).legend(move |(x, y)| {
-                        let p = swatch(d, s);
-                        EmptyElement::at((x, y))
-                            + PathElement::new(vec![(p[0].0, 0), (p[0].1, 0)], style)
-                            + PathElement::new(vec![(p[1].0, 0), (p[1].1, 0)], style)
-                            + PathElement::new(vec![(p[2].0, 0), (p[2].1, 0)], style)
-                    });
+                    line_legend!(annotated, &layer.label, d, style, s);
                 }
                 if !text.is_empty() {
                     // Labels sit near the bottom (legends go top right), staggered so neighbours stay readable.
@@ -521,13 +503,7 @@ fn compose(
                 if !layer.label.is_empty() {
                     any_label = true;
                     let d = Dash::Dotted;
-                    annotated.label(&layer.label).legend(move |(x, y)| {
-                        let p = swatch(d, s);
-                        EmptyElement::at((x, y))
-                            + PathElement::new(vec![(p[0].0, 0), (p[0].1, 0)], style)
-                            + PathElement::new(vec![(p[1].0, 0), (p[1].1, 0)], style)
-                            + PathElement::new(vec![(p[2].0, 0), (p[2].1, 0)], style)
-                    });
+                    line_legend!(annotated, &layer.label, d, style, s);
                 }
                 if !text.is_empty() {
                     let font = ("sans-serif", 12.0 * s).into_font().color(&colour);
@@ -600,6 +576,22 @@ fn draw_polyline<'a, 'b, DB: DrawingBackend + 'a>(
     ctx.draw_series(DashedLineSeries::new(pts, size.max(1), gap.max(1), style))
         .map_err(backend_err)
 }
+
+/// Attach a legend entry to a drawn line series: a swatch of three short strokes whose gaps show
+/// the dash pattern (a macro because each plotters element composition is its own type).
+macro_rules! line_legend {
+    ($annotated:expr, $label:expr, $dash:expr, $style:expr, $scale:expr) => {{
+        let (d, style, s) = ($dash, $style, $scale);
+        $annotated.label($label).legend(move |(x, y)| {
+            let p = swatch(d, s);
+            EmptyElement::at((x, y))
+                + PathElement::new(vec![(p[0].0, 0), (p[0].1, 0)], style)
+                + PathElement::new(vec![(p[1].0, 0), (p[1].1, 0)], style)
+                + PathElement::new(vec![(p[2].0, 0), (p[2].1, 0)], style)
+        });
+    }};
+}
+use line_legend;
 
 /// Pixel extents of the three strokes of a legend swatch; their gaps show the dash pattern.
 fn swatch(dash: Dash, s: f64) -> [(i32, i32); 3] {
