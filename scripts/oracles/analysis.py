@@ -253,7 +253,10 @@ def lj_fixtures():
                   "scipy.optimize.least_squares. Checks: LB D0 within 0.05 % of the true D0; linear "
                   "BS from the lowest levels lies below it (domain.md §1.5, common practice).",
         "de_cm1": de, "re_angstrom": re, "mu_u": mu, "c6_cm1_a6": 2 * de * re**6,
-        "true": {"d0_cm1": d0_true, "de_cm1": de, "g0_cm1": g0, "n_bound": n_bound},
+        # Levels the boxes hold; a further level bound by ~5e-5 cm-1 (outer turning point near
+        # 64 Å, decay length ~150 Å) lies beyond both boxes, so this is not the count of bound
+        # levels of the well (v_D ≈ 23.2 implies 24).
+        "true": {"d0_cm1": d0_true, "de_cm1": de, "g0_cm1": g0, "levels_in_box": n_bound},
         "levels": levels,
         "linear_bs_lowest": bs,
         "lb_n6_top": lb,

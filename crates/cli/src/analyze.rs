@@ -70,10 +70,10 @@ pub struct AnalyzeArgs {
     /// state's, for D0″ = T00 + D0′ − E_atom.
     #[arg(long, value_name = "E")]
     pub atomic_excitation: Option<f64>,
-    /// Bands: upper-state rotational constants Be[,αe] in cm⁻¹ (with --b-lower: heads → origins).
+    /// Bands: upper-state rotational constants `Be[,αe]` in cm⁻¹ (with --b-lower: heads → origins).
     #[arg(long, value_name = "BE[,ALPHA]", requires = "b_lower")]
     pub b_upper: Option<String>,
-    /// Bands: lower-state rotational constants Be[,αe] in cm⁻¹.
+    /// Bands: lower-state rotational constants `Be[,αe]` in cm⁻¹.
     #[arg(long, value_name = "BE[,ALPHA]", requires = "b_upper")]
     pub b_lower: Option<String>,
     /// Bands: σ (cm⁻¹) added to heads used as origins without rotational constants.

@@ -1,7 +1,7 @@
 //! Atomic masses of nuclides, nuclide labels, and the reduced mass of a diatomic molecule.
 //!
 //! Masses are the AME 2020 atomic masses (neutral atoms, in u), taken from the generated table
-//! [`crate::masses_table`] (written by `scripts/gen_masses.py` from the `periodictable` package).
+//! the generated `masses_table` module (written by `scripts/gen_masses.py` from the `periodictable` package).
 //! It holds, for H … Xe, Cs, Hg, Pb and U, every nuclide with a natural abundance and every
 //! radionuclide with a half-life of at least one day (half-lives from the `radioactivedecay`
 //! package: ICRP 107 / NUBASE 2020), e.g. ³H, ¹⁴C, ⁹⁹Tc, ¹²⁹I, ¹³⁷Cs, ²³⁵U; shorter-lived

@@ -15,7 +15,7 @@ use crate::report::Report;
 pub struct Methods {
     /// One paragraph of prose.
     pub paragraph: String,
-    /// References cited in the paragraph, numbered in order of citation ([1], [2], …).
+    /// References cited in the paragraph, numbered in order of citation (`[1]`, `[2]`, …).
     pub references: Vec<String>,
 }
 

@@ -146,7 +146,7 @@ pub struct DeslandresArray {
     /// Whether rows and columns run over every v between the lowest and highest observed (gaps
     /// are null cells) rather than only the observed values.
     pub dense: bool,
-    /// `cells[r][c]`: the band (v_upper[c], v_lower[r]), or null.
+    /// `cells[r][c]`: the band (`v_upper[c]`, `v_lower[r]`), or null.
     pub cells: Vec<Vec<Option<ArrayCell>>>,
     /// ΔG′_{v′+½} along the rows.
     pub upper_differences: Vec<ChainDifference>,

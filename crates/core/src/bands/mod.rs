@@ -7,7 +7,7 @@
 //!    settings name it);
 //! 2. band heads: correct them to origins when B′, B″ are given, else widen σ ([`heads`]);
 //! 3. per isotopologue, the Deslandres array with its difference chains and flagged cells
-//!    ([`array`]) and the model-free term-value fit ([`terms`]);
+//!    ([`mod@array`]) and the model-free term-value fit ([`terms`]);
 //! 4. the Dunham-constrained global fit of all isotopologues with mass-scaled constants, its
 //!    order pair chosen by nested F-tests ([`global`]), giving T00, Te and both states' constants;
 //! 5. the numbering check over upper-state offsets −3 … +3 ([`numbering`]);

@@ -25,10 +25,10 @@ use crate::{Error, Result};
 /// A term-value fit of one isotopologue's bands.
 #[derive(Debug, Clone)]
 pub struct TermFit {
-    /// Upper levels v′ (ascending); parameter i is T′(upper_v[i]).
+    /// Upper levels v′ (ascending); parameter i is `T′(upper_v[i])`.
     pub upper_v: Vec<u32>,
     /// Lower levels v″ (ascending); `lower_v[0]` is fixed at T″ = 0, parameter n′ + i − 1 is
-    /// T″(lower_v[i]) for i ≥ 1.
+    /// `T″(lower_v[i])` for i ≥ 1.
     pub lower_v: Vec<u32>,
     /// Indices (into the slice given to [`fit_terms`]) of the bands used, in fit order.
     pub bands: Vec<usize>,

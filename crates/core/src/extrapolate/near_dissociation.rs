@@ -14,7 +14,7 @@
 //! Monte Carlo refits with n free (and independent data) use variable projection: D and X0
 //! enter linearly, so for given (v_D, n) they are solved exactly, and the Levenberg–Marquardt
 //! iteration runs on (v_D, n) alone with Kaufman's Jacobian of the projected residual
-//! (Golub & Pereyra 1973; Kaufman 1975 [M]). The minimum is the same χ² minimum as the full
+//! (Golub & Pereyra 1973; Kaufman 1975; from memory). The minimum is the same χ² minimum as the full
 //! four-parameter fit; warm-started at the nominal solution it is reached in fewer iterations
 //! (the full fit converges only linearly when the residuals are large).
 
