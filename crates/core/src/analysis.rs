@@ -342,6 +342,9 @@ struct Work {
     lb_line: Option<(f64, f64, f64, f64)>, // (n, x0, v_d, first level v)
     /// Why the estimate is shown but kept out of the recommendation, beyond the usual rules.
     veto: Option<String>,
+    /// χ²_ν of the estimate's own fit (the polynomial it extrapolates, or its near-dissociation
+    /// fit), which sets its σ scaling; `None` without a fit of its own (the observed sum).
+    own_chi2r: Option<f64>,
 }
 
 /// Largest long-range exponent a free-n near-dissociation fit may return and still be kept in
@@ -414,12 +417,12 @@ fn run(
             };
             let what = if f2 == 1.0 {
                 format!(
-                    "data σ used as given (χ²_ν = {c:.3} of the order-{k_sel} fit; scaling policy: {})",
+                    "vibrational constants: data σ used as given (χ²_ν = {c:.3} of the order-{k_sel} fit; scaling policy: {}); each dissociation estimate's σ follows its own fit's χ²_ν under the same policy (its sigma_scale)",
                     policy_text(settings.sigma_scaling)
                 )
             } else {
                 format!(
-                    "data σ scaled by √χ²_ν = {:.4} of the order-{k_sel} fit (scaling policy: {})",
+                    "vibrational constants: data σ scaled by √χ²_ν = {:.4} of the order-{k_sel} fit (scaling policy: {}); each dissociation estimate's σ follows its own fit's χ²_ν under the same policy (its sigma_scale)",
                     f2.sqrt(),
                     policy_text(settings.sigma_scaling)
                 )
@@ -434,13 +437,6 @@ fn run(
             ),
         ),
     };
-    if source != SigmaSource::EstimatedFromScatter && factor2 > 1.0 {
-        warnings.push(format!(
-            "χ²_ν = {:.3} of the order-{k_sel} fit: either the data scatter more than their σ or the polynomial does not describe them (near dissociation usually the latter); all statistical σ are scaled by {:.3}, which then also carries that misfit (set the σ scaling to 'never' to trust the given σ)",
-            factor2,
-            factor2.sqrt()
-        ));
-    }
     let cov_eff = &data.cov * factor2;
     let cov_opt = estimable.then_some(&cov_eff);
 
@@ -517,6 +513,7 @@ fn run(
             level_curve: None,
             lb_line: None,
             veto: None,
+            own_chi2r: None,
         });
     }
 
@@ -542,6 +539,7 @@ fn run(
                     level_curve: None,
                     lb_line: None,
                     veto: None,
+                    own_chi2r: None,
                 };
             }
             let fit = match get_fit(k) {
@@ -561,6 +559,7 @@ fn run(
                         level_curve: None,
                         lb_line: None,
                         veto: None,
+                        own_chi2r: None,
                     };
                 }
             };
@@ -608,6 +607,7 @@ fn run(
                 level_curve: None,
                 lb_line: None,
                 veto: None,
+                own_chi2r: fit.chi2_reduced(),
             }
         };
     works.push(poly_work(
@@ -712,6 +712,7 @@ fn run(
                 level_curve: None,
                 lb_line: None,
                 veto: None,
+                own_chi2r: None,
             });
             lb_fits.push(None);
             continue;
@@ -736,6 +737,7 @@ fn run(
                 level_curve: None,
                 lb_line: None,
                 veto: None,
+                own_chi2r: None,
             });
             lb_fits.push(None);
             continue;
@@ -781,6 +783,7 @@ fn run(
                     level_curve: None,
                     lb_line: None,
                     veto: None,
+                    own_chi2r: None,
                 });
                 lb_fits.push(None);
             }
@@ -872,6 +875,7 @@ fn run(
                             "the fitted n = {nv:.1} lies outside the range of long-range exponents of real molecules (n ≤ {N_FREE_PLAUSIBLE_MAX:.0}): these levels do not determine n"
                         )
                     }),
+                    own_chi2r: (f.dof > 0).then(|| f.chi2 / f.dof as f64),
                 });
                 lb_fits.push(Some(*f));
             }
@@ -893,6 +897,55 @@ fn run(
         ));
     }
 
+    // Each estimate's statistical σ follows its own fit: σ = σ_data · √policy(χ²_ν of that fit)
+    // — the polynomial it extrapolates, or its near-dissociation fit — so a model's misfit widens
+    // its own σ and no other's. The observed sum has no fit: its σ is the given data σ (no model
+    // can tell noise from misfit for it). cov_eff carries the selected polynomial's factor, so
+    // rel[i] converts to the estimate's own. With σ estimated from the scatter, that single
+    // estimate applies to everything.
+    let policy = |c: f64| match settings.sigma_scaling {
+        SigmaScaling::Never => 1.0,
+        SigmaScaling::WhenAboveOne => c.max(1.0),
+        SigmaScaling::Always => c,
+    };
+    let per_method = estimable && factor2 > 0.0 && source != SigmaSource::EstimatedFromScatter;
+    let own_factor2: Vec<f64> = works
+        .iter()
+        .map(|w| {
+            if !per_method {
+                return factor2;
+            }
+            match w.family {
+                Family::ObservedSum => 1.0,
+                _ => w.own_chi2r.map_or(1.0, policy),
+            }
+        })
+        .collect();
+    let rel: Vec<f64> = own_factor2
+        .iter()
+        .map(|f| {
+            if factor2 > 0.0 {
+                (f / factor2).sqrt()
+            } else {
+                1.0
+            }
+        })
+        .collect();
+    if per_method {
+        let scaled: Vec<String> = works
+            .iter()
+            .zip(&own_factor2)
+            .filter(|(w, f)| **f > 1.0 && matches!(w.nominal, Nominal::Limit(_)))
+            .map(|(w, f)| format!("{} ×{:.3}", w.method, f.sqrt()))
+            .collect();
+        if !scaled.is_empty() {
+            warnings.push(format!(
+                "statistical σ scaled by √χ²_ν of each estimate's own fit (the data scatter more than their σ, or the model does not describe them): {}",
+                scaled.join(", ")
+            ));
+        }
+    }
+
     // Monte Carlo.
     let samples = settings.mc_samples as usize;
     let mut mc_note;
@@ -904,10 +957,12 @@ fn run(
     } else {
         let mut refs: Vec<&mut dyn Redraw> = Vec::new();
         let mut which: Vec<usize> = Vec::new();
+        let mut draw_scales: Vec<f64> = Vec::new();
         for (i, w) in works.iter_mut().enumerate() {
             if let (Some(e), Nominal::Limit(_)) = (w.estimator.as_mut(), &w.nominal) {
                 refs.push(e.as_mut());
                 which.push(i);
+                draw_scales.push(rel[i]);
             }
         }
         match montecarlo::run(
@@ -916,6 +971,7 @@ fn run(
             samples,
             settings.seed,
             &mut refs,
+            &draw_scales,
             progress,
         ) {
             Ok(results) => {
@@ -940,19 +996,25 @@ fn run(
     }
 
     // Recommendation.
+    let scaled = |x: &Lin, r: f64| Lin {
+        value: x.value,
+        grad: &x.grad * r,
+    };
     let observed = works
         .iter()
-        .find(|w| w.method == "observed-sum")
-        .and_then(|w| match &w.nominal {
-            Nominal::Limit(l) => Some(l.d0.clone()),
+        .zip(&rel)
+        .find(|(w, _)| w.method == "observed-sum")
+        .and_then(|(w, r)| match &w.nominal {
+            Nominal::Limit(l) => Some(scaled(&l.d0, *r)),
             _ => None,
         });
     let cands: Vec<Candidate> = works
         .iter()
-        .map(|w| {
+        .zip(&rel)
+        .map(|(w, r)| {
             let (d0, de, ext) = match &w.nominal {
                 Nominal::Limit(l) => (
-                    Some(l.d0.clone()),
+                    Some(scaled(&l.d0, *r)),
                     Some(l.de.value),
                     Some(ctx.extrapolated_fraction(l.d0.value)),
                 ),
@@ -985,8 +1047,30 @@ fn run(
     let mut plot_curves = Vec::new();
     let mut level_curves = Vec::new();
     let mut lin_plot: Option<(String, (f64, f64, f64, f64))> = None;
-    for (i, w) in works.into_iter().enumerate() {
+    for (i, mut w) in works.into_iter().enumerate() {
         let (def, def_reason) = assessment.defensible[i].clone();
+        let r = rel[i];
+        let rescale = |x: &mut Option<ValueSigma>| {
+            if let Some(v) = x.as_mut() {
+                v.sigma = v.sigma.map(|s| s * r);
+            }
+        };
+        if let Some(bs) = w.bs.as_mut() {
+            rescale(&mut bs.line_intercept_cm1);
+            rescale(&mut bs.line_slope_cm1);
+        }
+        if let Some(lb) = w.lb.as_mut() {
+            if lb.n_fitted {
+                lb.n.sigma = lb.n.sigma.map(|s| s * r);
+            }
+            rescale(&mut lb.d_cm1);
+            if !lb.cn_fixed {
+                rescale(&mut lb.x0_cm1);
+                rescale(&mut lb.cn_cm1_an);
+                rescale(&mut lb.cn_au);
+            }
+            rescale(&mut lb.top_binding_cm1);
+        }
         let mut e = Estimate {
             method: w.method.into(),
             label: w.label,
@@ -1002,6 +1086,7 @@ fn run(
             reason: String::new(),
             defensible: def,
             defensible_reason: def_reason,
+            sigma_scale: estimable.then(|| own_factor2[i].sqrt()),
             monte_carlo: w.mc,
             birge_sponer: w.bs,
             leroy_bernstein: w.lb,
@@ -1009,13 +1094,13 @@ fn run(
         match &w.nominal {
             Nominal::Limit(l) => {
                 e.d0_cm1 = Some(l.d0.value);
-                e.d0_sigma_cm1 = cov_opt.map(|c| l.d0.sigma(c));
+                e.d0_sigma_cm1 = cov_opt.map(|c| l.d0.sigma(c) * r);
                 e.de_cm1 = Some(l.de.value);
-                e.de_sigma_cm1 = cov_opt.map(|c| l.de.sigma(c));
+                e.de_sigma_cm1 = cov_opt.map(|c| l.de.sigma(c) * r);
                 e.extrapolated_fraction = Some(ctx.extrapolated_fraction(l.d0.value));
                 if let Some(v) = &l.v_d {
                     e.v_d = Some(v.value);
-                    e.v_d_sigma = cov_opt.map(|c| v.sigma(c));
+                    e.v_d_sigma = cov_opt.map(|c| v.sigma(c) * r);
                     e.n_bound = Some(v.value.floor().max(0.0) as u64 + 1);
                 }
                 e.reason = match w.family {

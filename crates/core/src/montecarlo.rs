@@ -109,16 +109,25 @@ pub struct McResult {
 /// How many draws pass between two calls of the progress hook.
 pub const PROGRESS_EVERY: usize = 100;
 
-/// Run `samples` draws from N(y, cov) through every estimator. `progress(done, total)` is
-/// called every [`PROGRESS_EVERY`] draws and once at the end (the page shows a progress bar).
+/// Run `samples` draws from N(y, cov) through every estimator. Estimator `e` sees its draws
+/// with the perturbation multiplied by `scales[e]` (its own σ scaling; 1 leaves the draw as is),
+/// so every estimator is fed the same standard-normal numbers. `progress(done, total)` is called
+/// every [`PROGRESS_EVERY`] draws and once at the end (the page shows a progress bar).
 pub fn run(
     y: &[f64],
     cov: &DMatrix<f64>,
     samples: usize,
     seed: u64,
     estimators: &mut [&mut dyn Redraw],
+    scales: &[f64],
     progress: &mut dyn FnMut(usize, usize),
 ) -> Result<Vec<McResult>> {
+    if scales.len() != estimators.len() {
+        return Err(Error::numerical(
+            "Monte Carlo",
+            "one σ scale per estimator is needed",
+        ));
+    }
     let n = y.len();
     let chol = nalgebra::Cholesky::new(cov.clone()).ok_or_else(|| {
         Error::numerical(
@@ -147,6 +156,8 @@ pub fn run(
     let mut z = vec![0.0; n];
     let mut dy = vec![0.0; n];
     let mut ys = vec![0.0; n];
+    let mut dy_k = vec![0.0; n];
+    let mut ys_k = vec![0.0; n];
     for s in 0..samples {
         for zi in z.iter_mut() {
             *zi = StandardNormal.sample(&mut rng);
@@ -162,7 +173,17 @@ pub fn run(
             ys[i] = y[i] + acc;
         }
         for (e, est) in estimators.iter_mut().enumerate() {
-            let (a, b, c) = match est.draw(&ys, &dy) {
+            let k = scales[e];
+            let value = if k == 1.0 {
+                est.draw(&ys, &dy)
+            } else {
+                for i in 0..n {
+                    dy_k[i] = k * dy[i];
+                    ys_k[i] = y[i] + dy_k[i];
+                }
+                est.draw(&ys_k, &dy_k)
+            };
+            let (a, b, c) = match value {
                 DrawValue::Value { d0, de, v_d } => (d0, de, v_d),
                 DrawValue::NoLimit => (f64::INFINITY, f64::INFINITY, f64::INFINITY),
                 DrawValue::Failed => (f64::NAN, f64::NAN, f64::NAN),

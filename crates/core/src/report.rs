@@ -275,6 +275,10 @@ pub struct Estimate {
     pub defensible: bool,
     /// Why (not).
     pub defensible_reason: String,
+    /// Factor multiplying the data σ for this estimate's statistical σ and Monte Carlo draws:
+    /// √χ²_ν of its own fit under the scaling policy (1 = σ as given); null when not estimable.
+    #[serde(default)]
+    pub sigma_scale: Option<f64>,
     /// Monte Carlo distribution (null when not run).
     pub monte_carlo: Option<McResult>,
     /// Birge–Sponer details.

@@ -522,6 +522,65 @@ fn envelope_sigma_matches_numerical_jacobian() {
     }
 }
 
+/// SOURCE: scipy's `curve_fit(absolute_sigma=False)` convention — a fit's covariance scaled by
+/// its own χ²_ν — applied per estimate: the linear Birge–Sponer σ(D0) is the oracle's
+/// envelope σ (numerical Jacobian of a numpy procedure) × √(χ²/dof of numpy's order-2 fit), the
+/// curved one × √(χ²/dof of the order-3 fit), and the observed sum keeps the data σ
+/// (closed form √(σ²_top + σ²_0), no fit of its own). Policy "when above one" (both χ²_ν > 1
+/// here: 240.7 and 1.21). Tolerance 1e-5 relative (finite differences).
+#[test]
+fn each_estimate_scales_by_its_own_fit() {
+    let fx = fixture("lsq");
+    let levels = levels_of(&fx["levels"]);
+    let s = AnalysisSettings {
+        sigma_scaling: SigmaScaling::WhenAboveOne,
+        order: Some(3),
+        curved_max_extrapolation: 5.0,
+        mc_samples: 0,
+        ..AnalysisSettings::default()
+    };
+    let r = analyze_levels(&levels, None, None, &s).expect("analysis");
+    for (m, key, order_index) in [
+        ("birge-sponer-linear", "2", 1),
+        ("birge-sponer-curved", "3", 2),
+    ] {
+        let o = &fx["orders"][order_index];
+        let chi2r = f(&o["chi2"]) / f(&o["dof"]);
+        assert!(
+            chi2r > 1.0,
+            "the fixture's order {key} fit should have χ²_ν > 1"
+        );
+        let e = est(&r, m);
+        check(
+            &format!("{m} σ scale"),
+            e.sigma_scale.expect("scale"),
+            chi2r.sqrt(),
+            1e-8,
+        );
+        check(
+            &format!("{m} σ(D0) scaled by its own fit"),
+            e.d0_sigma_cm1.expect("σ"),
+            f(&fx["envelope"][key]["d0_sigma_cm1"]) * chi2r.sqrt(),
+            1e-5,
+        );
+    }
+    let (_, _, sig) = lsq_levels(&fx);
+    let top = sig.len() - 1;
+    let obs = est(&r, "observed-sum");
+    check(
+        "observed-sum σ scale",
+        obs.sigma_scale.expect("scale"),
+        1.0,
+        0.0,
+    );
+    check(
+        "observed-sum σ unscaled",
+        obs.d0_sigma_cm1.expect("σ"),
+        (sig[top] * sig[top] + sig[0] * sig[0]).sqrt(),
+        1e-12,
+    );
+}
+
 /// SOURCE: scipy.linalg.lstsq on the whitened exact finite-difference design
 /// Σ Y_k[(v+3/2)^k − (v+½)^k] (domain.md §1.4) for spacings, and generalised least squares by a
 /// Cholesky whitening (scipy) for levels with a full covariance; the observed-sum σ equals the

@@ -49,6 +49,60 @@ fn seeded_monte_carlo_is_deterministic() {
     assert_eq!(a.monte_carlo.seed, s.seed);
 }
 
+/// Per-estimate σ scaling reaches the Monte Carlo draws (sampling theory, common practice, no
+/// source): cubic levels with an ωeye term are misfitted by the linear Birge–Sponer quadratic,
+/// so its own χ²_ν ≫ 1 and its draws are widened by √χ²_ν; its Monte Carlo sd must then match
+/// its scaled covariance σ, and the observed sum (no fit, scale 1) must match the unscaled
+/// closed form √(σ²_top + σ²_0). 4000 draws: relative standard error of an sd ≈ 1.1 %; we allow
+/// 8 %.
+#[test]
+fn per_estimate_scaling_reaches_the_draws() {
+    let n = 10u32;
+    let sigma = vec![0.05; n as usize];
+    let noise = [0.3, -1.1, 0.7, 0.2, -0.4, 1.3, -0.8, 0.1, 0.5, -0.6];
+    let mut levels = morse_levels(1500.0, 12.0, n, &sigma, &noise);
+    for l in levels.iter_mut() {
+        let x = l.v as f64 + 0.5;
+        l.energy_cm1 += 0.08 * x * x * x;
+    }
+    let s = AnalysisSettings {
+        mc_samples: 4000,
+        sigma_scaling: SigmaScaling::WhenAboveOne,
+        lb_fit_n_free: false,
+        ..AnalysisSettings::default()
+    };
+    let r = analyze_levels(&levels, None, None, &s).expect("analysis");
+    let bs = r
+        .estimates
+        .iter()
+        .find(|e| e.method == "birge-sponer-linear")
+        .expect("linear");
+    let scale = bs.sigma_scale.expect("scale");
+    assert!(
+        scale > 3.0,
+        "the quadratic should misfit cubic levels (scale {scale})"
+    );
+    let sd = bs.monte_carlo.as_ref().expect("mc").d0.sd.expect("sd");
+    let sigma_cov = bs.d0_sigma_cm1.expect("σ");
+    assert!(
+        (sd / sigma_cov - 1.0).abs() < 0.08,
+        "linear BS: MC sd {sd} vs scaled σ {sigma_cov}"
+    );
+    let obs = r
+        .estimates
+        .iter()
+        .find(|e| e.method == "observed-sum")
+        .expect("observed sum");
+    assert_eq!(obs.sigma_scale, Some(1.0));
+    let closed = (2.0f64 * 0.05 * 0.05).sqrt();
+    assert!((obs.d0_sigma_cm1.expect("σ") - closed).abs() <= 1e-12);
+    let sd_obs = obs.monte_carlo.as_ref().expect("mc").d0.sd.expect("sd");
+    assert!(
+        (sd_obs / closed - 1.0).abs() < 0.08,
+        "observed sum: MC sd {sd_obs} vs {closed}"
+    );
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 6, .. ProptestConfig::default() })]
 
