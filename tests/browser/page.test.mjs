@@ -170,6 +170,33 @@ test('excluding a point changes the result, keeps the row visible and in every e
   await context.close();
 });
 
+test('the settings form reaches the analysis: mass as two nuclides, Monte Carlo samples', async () => {
+  const { page, problems, context } = await fresh();
+  await page.click('#settings-box summary');
+  await mark(page);
+  await page.fill('#settings [name=mass]', '7Li,35Cl');
+  await page.press('#settings [name=mass]', 'Enter');
+  await analysed(page);
+  await mark(page);
+  await page.fill('#settings [name=mc_samples]', '300');
+  await page.press('#settings [name=mc_samples]', 'Enter');
+  await analysed(page);
+  const status = await page.textContent('#status-text');
+  assert.doesNotMatch(status, /fail|invalid|error/i, `status: ${status}`);
+  const doc = await exportJson(page);
+  assert.deepEqual(doc.session.settings.mass, { kind: 'nuclides', a: '7Li', b: '35Cl' });
+  assert.equal(doc.session.settings.mc_samples, 300);
+  assert.equal(doc.monte_carlo.samples, 300);
+  // SOURCE: atomic masses of 7Li and 35Cl from the periodictable package (AME), as written by
+  // scripts/oracles/units.py into tests/intake/units_oracle.json; μ = m_a m_b / (m_a + m_b).
+  const oracle = JSON.parse(readFileSync(join(ROOT, 'tests/intake/units_oracle.json'), 'utf8'));
+  const [ma, mb] = [oracle.masses_u['7Li'], oracle.masses_u['35Cl']];
+  const mu = (ma * mb) / (ma + mb);
+  assert.ok(Math.abs(doc.input.mu_u - mu) < 1e-7 * mu, `μ ${doc.input.mu_u} vs ${mu}`);
+  clean(problems);
+  await context.close();
+});
+
 test('every export is a valid file; JSON import and the share link restore the same numbers', async () => {
   const { page, problems, context } = await fresh();
   const doc = await exportJson(page);

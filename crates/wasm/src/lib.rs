@@ -444,10 +444,11 @@ impl Workbench {
         self.install(session)
     }
 
-    /// Replace the analysis settings (a JSON object; missing fields take their defaults).
-    pub fn set_settings(&mut self, settings: JsValue) -> Result<(), JsError> {
-        let settings: AnalysisSettings =
-            serde_wasm_bindgen::from_value(settings).map_err(js_err)?;
+    /// Replace the analysis settings, given as JSON text (missing fields take their defaults).
+    /// Text, not a JS object: settings are read by the same serde_json code that reads session
+    /// documents, so the module carries one deserialiser for them, not two.
+    pub fn set_settings(&mut self, settings_json: &str) -> Result<(), JsError> {
+        let settings: AnalysisSettings = serde_json::from_str(settings_json).map_err(js_err)?;
         let session = self
             .session
             .as_mut()
