@@ -72,10 +72,10 @@ async function boot() {
 
   const results = new Results({ format_energy, format_number });
   const figures = new FigurePanel(rpc, Chart);
-  const settings = new SettingsForm((s) => run(() => rpc.call('set_settings', JSON.stringify(s))).then(() => analyse()));
+  const settings = new SettingsForm((s) => run(() => rpc.call('set_settings', JSON.stringify(s))).then(() => analyse()).catch(shown));
   // A reading change { op, ...fields } travels as the JSON object { op: { ...fields } }.
   const data = new DataPanel(rpc, { roles: column_roles(), units: input_units() },
-    ({ op, ...fields }) => run(() => rpc.call('change_reading', JSON.stringify({ [op]: fields }))).then(afterReading));
+    ({ op, ...fields }) => run(() => rpc.call('change_reading', JSON.stringify({ [op]: fields }))).then(afterReading).catch(shown));
 
   function renderResults() {
     if (state.report) results.render(state.report, state.unit, state.unitLabel);
@@ -89,6 +89,10 @@ async function boot() {
       throw err;
     }
   }
+
+  /** End of an event's chain whose failure `run` has already put in the status line (the
+   *  worker keeps its previous table and settings, so what is on screen still matches it). */
+  function shown() {}
 
   /** No stale numbers: results of an earlier table disappear as soon as they no longer apply. */
   function forgetResults() {
@@ -154,7 +158,7 @@ async function boot() {
   $('open-file').addEventListener('click', () => $('file-input').click());
   $('file-input').addEventListener('change', async (e) => {
     const file = e.target.files?.[0];
-    if (file) await openBytes(file.name, new Uint8Array(await file.arrayBuffer()));
+    if (file) await openBytes(file.name, new Uint8Array(await file.arrayBuffer())).catch(shown);
     e.target.value = '';
   });
   let dragDepth = 0;
@@ -167,10 +171,10 @@ async function boot() {
     $('drop-overlay').hidden = true;
     const file = e.dataTransfer?.files?.[0];
     if (file) {
-      await openBytes(file.name, new Uint8Array(await file.arrayBuffer()));
+      await openBytes(file.name, new Uint8Array(await file.arrayBuffer())).catch(shown);
     } else {
       const text = e.dataTransfer?.getData('text/plain');
-      if (text) await openBytes('dropped text', new TextEncoder().encode(text));
+      if (text) await openBytes('dropped text', new TextEncoder().encode(text)).catch(shown);
     }
   });
   // Ctrl+V anywhere on the page (outside a text field) reads the clipboard as a table: the text
@@ -182,9 +186,9 @@ async function boot() {
     if (!text) return;
     e.preventDefault();
     status('Reading the pasted table…');
-    const reading = await run(() => rpc.call('load_text', 'pasted table', text));
-    $('examples').value = '';
-    await afterReading(reading);
+    await run(() => rpc.call('load_text', 'pasted table', text))
+      .then((reading) => { $('examples').value = ''; return afterReading(reading); })
+      .catch(shown);
   });
   $('paste-open').addEventListener('click', () => $('paste-dialog').showModal());
   $('paste-dialog').addEventListener('close', async () => {
@@ -192,15 +196,14 @@ async function boot() {
     const text = $('paste-text').value;
     if (text.trim()) {
       status('Reading the pasted table…');
-      const reading = await run(() => rpc.call('load_text', 'pasted table', text));
-      $('examples').value = '';
-      await afterReading(reading);
+      await run(() => rpc.call('load_text', 'pasted table', text))
+        .then((reading) => { $('examples').value = ''; return afterReading(reading); })
+        .catch(shown);
     }
   });
   $('examples').addEventListener('change', async (e) => {
     if (!e.target.value) return;
-    const reading = await run(() => rpc.call('load_example', e.target.value));
-    await afterReading(reading);
+    await run(() => rpc.call('load_example', e.target.value)).then(afterReading).catch(shown);
   });
 
   // --- export ---------------------------------------------------------------------------
@@ -209,10 +212,10 @@ async function boot() {
     else download('rungs-session.json', 'application/json', await rpc.call('session_json'));
   });
 
-  $('export-csv').addEventListener('click', () => run(() => openTables(rpc)));
-  $('share-link').addEventListener('click', () => run(() => openShare(rpc)));
+  $('export-csv').addEventListener('click', () => run(() => openTables(rpc)).catch(shown));
+  $('share-link').addEventListener('click', () => run(() => openShare(rpc)).catch(shown));
   $('print-report').addEventListener('click', () => run(() => printReport(rpc, Chart, state.report,
-    results, state.unit, state.unitLabel, { url: location.href.split('#')[0], printed: new Date().toISOString(), name: data.reading?.name })));
+    results, state.unit, state.unitLabel, { url: location.href.split('#')[0], printed: new Date().toISOString(), name: data.reading?.name })).catch(shown));
   // Tests build the report without opening the print dialog.
   globalThis.rungsBuildReport = () => printReport(rpc, Chart, state.report, results, state.unit, state.unitLabel,
     { url: location.href.split('#')[0], printed: new Date().toISOString(), name: data.reading?.name, noPrint: true });

@@ -193,6 +193,10 @@ test('the settings form reaches the analysis: mass as two nuclides, Monte Carlo 
   const [ma, mb] = [oracle.masses_u['7Li'], oracle.masses_u['35Cl']];
   const mu = (ma * mb) / (ma + mb);
   assert.ok(Math.abs(doc.input.mu_u - mu) < 1e-7 * mu, `μ ${doc.input.mu_u} vs ${mu}`);
+  // A required number left empty is refused in place: the field shows the value still in force.
+  await page.fill('#settings [name=mc_samples]', '');
+  await page.press('#settings [name=mc_samples]', 'Enter');
+  assert.equal(await page.inputValue('#settings [name=mc_samples]'), '300');
   clean(problems);
   await context.close();
 });
@@ -387,6 +391,24 @@ test('a table that cannot be analysed clears the earlier result instead of leavi
   assert.match(await page.textContent('#status'), /usable|at least/i);
   // The rows are still shown, with what was read.
   assert.match(await page.textContent('#reading'), /two-rows\.csv/);
+  clean(problems);
+  await context.close();
+});
+
+test('a correction that leaves the table unreadable is explained, and undoing it restores the analysis', async () => {
+  const { page, problems, context } = await fresh();
+  const before = await exportJson(page);
+  // Column 2 holds the energies; calling it a v column leaves nothing to analyse.
+  await page.selectOption('#reading select[aria-label="Role of column 2"]', 'v');
+  await page.waitForFunction(() => /cannot tell what the table holds/.test(document.getElementById('status-text').textContent));
+  assert.equal(await page.getAttribute('#status', 'class'), 'status error');
+  // The worker kept the previous reading: the controls still show it, and putting the role back
+  // gives the same numbers as before.
+  await mark(page);
+  await page.selectOption('#reading select[aria-label="Role of column 2"]', 'energy');
+  await analysed(page);
+  const after = await exportJson(page);
+  assert.equal(after.recommended.d0_cm1, before.recommended.d0_cm1);
   clean(problems);
   await context.close();
 });

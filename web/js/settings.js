@@ -39,7 +39,12 @@ export class SettingsForm {
       } else {
         input = el('input', {
           name: f.key, inputmode: 'decimal', value: v ?? '', placeholder: f.help ?? '',
-          onchange: (e) => this.set(f.key, this.parse(f.type, e.target.value)),
+          onchange: (e) => {
+            const x = this.parse(f.type, e.target.value);
+            // Not a number (or empty where a value is required): show the value still in force.
+            if (x === undefined) e.target.value = this.settings[f.key] ?? '';
+            else this.set(f.key, x);
+          },
         });
       }
       form.append(el('label', { title: f.help ?? '' }, f.label, input));
