@@ -128,7 +128,7 @@ export class Results {
   }
 
   estimatesTable(report, u, label) {
-    const head = ['method', `D0 / ${label}`, `De / ${label}`, 'v_D', 'bound levels', 'extrap­olated', `MC median [16 %, 84 %] / ${label}`, 'in the recom­mendation'];
+    const head = ['method', `D0 / ${label}`, `De / ${label}`, 'v_D', 'bound levels', 'extrap­olated', `MC median [16 %, 84 %] / ${label}`, 'σ scale', 'in the recom­mendation'];
     const body = [];
     for (const e of report.estimates) {
       const mc = e.monte_carlo?.d0;
@@ -144,12 +144,14 @@ export class Results {
         el('td', { class: 'num' }, e.n_bound ?? '—'),
         el('td', { class: 'num' }, e.extrapolated_fraction === null ? '—' : `${(100 * e.extrapolated_fraction).toFixed(1)} %`),
         el('td', { class: 'num' }, mcText),
+        el('td', { class: 'num', title: 'factor applied to the data σ for this method: √χ²ν of its own fit under the σ-scaling setting' },
+          e.sigma_scale === null || e.sigma_scale === undefined ? '—' : `×${e.sigma_scale < 10 ? e.sigma_scale.toFixed(2) : e.sigma_scale.toFixed(1)}`),
         el('td', {}, e.defensible ? 'yes' : 'no')));
       body.push(el('tr', { class: `${cls} note-row` },
         el('td', { colspan: head.length, class: 'note' }, e.defensible ? e.defensible_reason : `${e.reason}; ${e.defensible_reason}`)));
     }
     return el('table', { class: 'estimates' },
-      el('caption', {}, 'σ: one standard deviation from the data covariance (statistical only)'),
+      el('caption', {}, 'σ: one standard deviation, statistical only: the data covariance, with the data σ multiplied by the method\'s σ scale (√χ²ν of its own fit when the σ-scaling setting applies; ×1 for the observed sum)'),
       el('thead', {}, el('tr', {}, head.map((h) => el('th', { scope: 'col' }, h)))),
       el('tbody', {}, body));
   }
@@ -169,7 +171,7 @@ export class Results {
       if (m.a_per_angstrom) rows.push(['Morse a / Å⁻¹', { text: this.num(m.a_per_angstrom.value, m.a_per_angstrom.sigma), class: 'num' }]);
       if (m.force_constant_n_per_m) rows.push(['force constant k_e / N m⁻¹', { text: this.num(m.force_constant_n_per_m.value, m.force_constant_n_per_m.sigma), class: 'num' }]);
     }
-    const out = [table(['constant', `value / ${label}`], rows, `From the order-${c.order} fit of G(v); σ as used for every estimate`)];
+    const out = [table(['constant', `value / ${label}`], rows, `From the order-${c.order} fit of G(v); σ from its covariance, scaled as the σ-scaling setting says for this fit`)];
     if (c.correlation?.length > 1) {
       const names = c.dunham.map((d) => d.name ?? `Y${d.k}0`);
       out.push(table(['', ...names], c.correlation.map((row, i) => [names[i], ...row.map((x) => ({ text: x.toFixed(3), class: 'num' }))]), 'Correlation of the Dunham coefficients'));

@@ -616,7 +616,7 @@ pub fn render_text(r: &Report) -> String {
 
     let _ = writeln!(
         s,
-        "Dissociation limit by each method (cm⁻¹; σ from the data covariance; MC = Monte Carlo median [16 %, 84 %])"
+        "Dissociation limit by each method (cm⁻¹; σ from the data covariance, data σ scaled per method as marked; MC = Monte Carlo median [16 %, 84 %])"
     );
     for e in &r.estimates {
         let _ = writeln!(
@@ -634,9 +634,13 @@ pub fn render_text(r: &Report) -> String {
             Some(_) => {
                 let _ = writeln!(
                     s,
-                    "      D0 = {}   De = {}",
+                    "      D0 = {}   De = {}{}",
                     pm(e.d0_cm1, e.d0_sigma_cm1, 3),
-                    pm(e.de_cm1, e.de_sigma_cm1, 3)
+                    pm(e.de_cm1, e.de_sigma_cm1, 3),
+                    match e.sigma_scale {
+                        Some(k) if k != 1.0 => format!("   (data σ ×{k:.3}: √χ²_ν of its own fit)"),
+                        _ => String::new(),
+                    }
                 );
                 if e.v_d.is_some() {
                     let _ = writeln!(
