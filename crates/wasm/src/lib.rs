@@ -11,6 +11,8 @@
 //! Errors cross as JS `Error`s carrying core's readable message.
 
 use rungs_core::intake::{self, DataSet, IntakeOptions, Role, RowStatus};
+use rungs_core::pipeline::Analysis;
+use rungs_core::report::{ExcludedRow, LevelOut, PlotData, Report, ResidualOut, SpacingOut};
 use rungs_core::session::Session;
 use rungs_core::settings::AnalysisSettings;
 use rungs_core::units::Unit;
@@ -214,7 +216,7 @@ enum ReadingChange {
 pub struct Workbench {
     session: Option<Session>,
     data: Option<DataSet>,
-    report: Option<rungs_core::pipeline::Analysis>,
+    report: Option<Analysis>,
     /// The full analysis document of `report`, kept for export.
     report_json: Option<String>,
 }
@@ -225,35 +227,95 @@ const VIEW_LIST_MAX: usize = 2000;
 /// The report as the page's tables need it: without the embedded session, the plot series (the
 /// worker builds figures itself) and with long lists cut, so a huge table does not freeze the
 /// page while its report is parsed. Counts stay exact (`input.n_points`, `rows.total/used`).
-fn view_of(analysis: &rungs_core::pipeline::Analysis) -> rungs_core::pipeline::Analysis {
-    use rungs_core::pipeline::Analysis;
-    fn slim(r: &mut rungs_core::Report) {
-        r.session = None;
-        r.plot = Default::default();
-        r.levels.truncate(VIEW_LIST_MAX);
-        r.spacings.truncate(VIEW_LIST_MAX);
-        r.fit.residuals.truncate(VIEW_LIST_MAX);
-        if let Some(rows) = r.rows.as_mut() {
-            rows.excluded.truncate(VIEW_LIST_MAX);
-        }
-    }
-    let mut view = analysis.clone();
-    match &mut view {
-        Analysis::Levels(r) => slim(r),
-        Analysis::Bands(b) => {
-            b.session = None;
-            if let Some(rows) = b.rows.as_mut() {
-                rows.excluded.truncate(VIEW_LIST_MAX);
+/// The parts left out are moved aside and put back after writing, not copied: with a 100 000-row
+/// table a copy of the analysis would double the worker's memory for a moment.
+fn view_json(analysis: &mut Analysis) -> rungs_core::Result<String> {
+    let (session, excluded, tails) = match analysis {
+        Analysis::Levels(r) => (None, Vec::new(), vec![Tail::take(r)]),
+        Analysis::Bands(b) => (
+            b.session.take(),
+            b.rows
+                .as_mut()
+                .map(|r| cut(&mut r.excluded))
+                .unwrap_or_default(),
+            [b.states.upper.as_mut(), b.states.lower.as_mut()]
+                .into_iter()
+                .flatten()
+                .map(Tail::take)
+                .collect(),
+        ),
+    };
+    let json = analysis.to_json();
+    let mut tails = tails.into_iter();
+    match analysis {
+        Analysis::Levels(r) => {
+            if let Some(t) = tails.next() {
+                t.restore(r);
             }
-            for s in [b.states.upper.as_mut(), b.states.lower.as_mut()]
+        }
+        Analysis::Bands(b) => {
+            b.session = session;
+            if let Some(rows) = b.rows.as_mut() {
+                rows.excluded.extend(excluded);
+            }
+            for r in [b.states.upper.as_mut(), b.states.lower.as_mut()]
                 .into_iter()
                 .flatten()
             {
-                slim(s);
+                if let Some(t) = tails.next() {
+                    t.restore(r);
+                }
             }
         }
     }
-    view
+    json
+}
+
+/// The entries of `list` beyond [`VIEW_LIST_MAX`], removed from it.
+fn cut<T>(list: &mut Vec<T>) -> Vec<T> {
+    if list.len() > VIEW_LIST_MAX {
+        list.split_off(VIEW_LIST_MAX)
+    } else {
+        Vec::new()
+    }
+}
+
+/// What the on-screen view leaves out of one single-state report.
+struct Tail {
+    session: Option<Session>,
+    plot: PlotData,
+    levels: Vec<LevelOut>,
+    spacings: Vec<SpacingOut>,
+    residuals: Vec<ResidualOut>,
+    excluded: Vec<ExcludedRow>,
+}
+
+impl Tail {
+    fn take(r: &mut Report) -> Tail {
+        Tail {
+            session: r.session.take(),
+            plot: std::mem::take(&mut r.plot),
+            levels: cut(&mut r.levels),
+            spacings: cut(&mut r.spacings),
+            residuals: cut(&mut r.fit.residuals),
+            excluded: r
+                .rows
+                .as_mut()
+                .map(|rows| cut(&mut rows.excluded))
+                .unwrap_or_default(),
+        }
+    }
+
+    fn restore(self, r: &mut Report) {
+        r.session = self.session;
+        r.plot = self.plot;
+        r.levels.extend(self.levels);
+        r.spacings.extend(self.spacings);
+        r.fit.residuals.extend(self.residuals);
+        if let Some(rows) = r.rows.as_mut() {
+            rows.excluded.extend(self.excluded);
+        }
+    }
 }
 
 impl Default for Workbench {
@@ -465,9 +527,9 @@ impl Workbench {
         let mut hook = |done: usize, total: usize| {
             let _ = progress.call2(&JsValue::NULL, &JsValue::from(done), &JsValue::from(total));
         };
-        let report = rungs_core::analyze_session(session, &mut hook).map_err(js_err)?;
+        let mut report = rungs_core::analyze_session(session, &mut hook).map_err(js_err)?;
         self.report_json = Some(report.to_json().map_err(js_err)?);
-        let view = view_of(&report).to_json().map_err(js_err)?;
+        let view = view_json(&mut report).map_err(js_err)?;
         self.report = Some(report);
         Ok(view)
     }
@@ -549,5 +611,39 @@ impl Workbench {
         self.session = Some(session);
         self.data = Some(data);
         self.reading()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The view cuts long lists and drops the session and plot series, and the analysis kept
+    /// for figures and exports comes back unchanged (common practice, no source: a view must
+    /// not alter what it shows).
+    #[test]
+    fn view_cuts_lists_and_leaves_the_analysis_whole() {
+        let session = rungs_core::examples::example("qz2-levels")
+            .expect("demo")
+            .session();
+        let mut analysis = rungs_core::analyze_session(&session, &mut |_, _| {}).expect("analysis");
+        if let Analysis::Levels(r) = &mut analysis {
+            let one = r.levels[0].clone();
+            r.levels.resize(VIEW_LIST_MAX + 123, one);
+        }
+        let before = analysis.clone();
+        let view: serde_json::Value =
+            serde_json::from_str(&view_json(&mut analysis).expect("view")).expect("json");
+        assert_eq!(analysis, before);
+        assert_eq!(
+            view["levels"].as_array().expect("levels").len(),
+            VIEW_LIST_MAX
+        );
+        assert!(view["session"].is_null());
+        assert!(
+            view["plot"]["levels"]
+                .as_array()
+                .is_none_or(|a| a.is_empty())
+        );
     }
 }
