@@ -358,11 +358,21 @@ fn compose(
     let x_range = chart.x_range.unwrap_or_else(|| padded(dx, 0.04));
     let y_range = chart.y_range.unwrap_or_else(|| padded(dy, 0.06));
 
-    let (plot_area, note_area) = if chart.note.is_empty() {
+    let note_font = ("sans-serif", 11.0 * s)
+        .into_font()
+        .color(&RGBColor(80, 80, 80));
+    let (width, height) = area.dim_in_pixel();
+    let note_lines = wrap_words(&chart.note, width.saturating_sub(px(24.0)), |t| {
+        area.estimate_text_size(t, &note_font)
+            .map(|(w, _)| w)
+            .unwrap_or(u32::MAX)
+    });
+    let note_line_px = px(14.0);
+    let (plot_area, note_area) = if note_lines.is_empty() {
         (area.clone(), None)
     } else {
-        let (_, h) = area.dim_in_pixel();
-        let (a, b) = area.split_vertically(h.saturating_sub(px(22.0)));
+        let note_px = px(8.0) + note_line_px * note_lines.len() as u32;
+        let (a, b) = area.split_vertically(height.saturating_sub(note_px));
         (a, Some(b))
     };
 
@@ -533,11 +543,11 @@ fn compose(
             .map_err(backend_err)?;
     }
     if let Some(na) = note_area {
-        let font = ("sans-serif", 11.0 * s)
-            .into_font()
-            .color(&RGBColor(80, 80, 80));
-        na.draw_text(&chart.note, &font, (px(12.0) as i32, px(4.0) as i32))
-            .map_err(backend_err)?;
+        for (i, line) in note_lines.iter().enumerate() {
+            let y = px(4.0) + note_line_px * i as u32;
+            na.draw_text(line, &note_font, (px(12.0) as i32, y as i32))
+                .map_err(backend_err)?;
+        }
     }
 
     let (xr, yr) = ctx.plotting_area().get_pixel_range();
@@ -549,6 +559,38 @@ fn compose(
         x_range,
         y_range,
     })
+}
+
+/// Most lines the note under a chart may take; a longer note ends in "…".
+const NOTE_MAX_LINES: usize = 3;
+
+/// Break `text` at spaces into lines no wider than `max_px` as measured by `width_of` (a word
+/// longer than a line gets a line of its own), at most [`NOTE_MAX_LINES`] of them.
+fn wrap_words(text: &str, max_px: u32, width_of: impl Fn(&str) -> u32) -> Vec<String> {
+    let mut lines: Vec<String> = Vec::new();
+    let mut current = String::new();
+    for word in text.split_whitespace() {
+        let candidate = if current.is_empty() {
+            word.to_string()
+        } else {
+            format!("{current} {word}")
+        };
+        if current.is_empty() || width_of(&candidate) <= max_px {
+            current = candidate;
+        } else {
+            lines.push(std::mem::replace(&mut current, word.to_string()));
+        }
+    }
+    if !current.is_empty() {
+        lines.push(current);
+    }
+    if lines.len() > NOTE_MAX_LINES {
+        lines.truncate(NOTE_MAX_LINES);
+        if let Some(last) = lines.last_mut() {
+            last.push_str(" …");
+        }
+    }
+    lines
 }
 
 type Ctx<'a, DB> = ChartContext<
@@ -667,6 +709,28 @@ pub fn to_svg(chart: &XyChart, width: u32, height: u32) -> Result<String, PlotEr
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Notes wrap at spaces within the width, keep every word in order, and stop at
+    /// NOTE_MAX_LINES with an ellipsis (common practice, no source).
+    #[test]
+    fn notes_wrap_within_the_width() {
+        let width = |t: &str| 10 * t.chars().count() as u32;
+        let text = "SYNTHETIC data · ΔG plotted at x = v + ½ (dashed: not in the recommendation)";
+        let lines = wrap_words(text, 300, width);
+        assert!(lines.len() > 1 && lines.len() <= NOTE_MAX_LINES);
+        assert!(lines.iter().all(|l| width(l) <= 300), "{lines:?}");
+        assert_eq!(lines.join(" "), text);
+        assert_eq!(wrap_words("", 300, width), Vec::<String>::new());
+        let long = "word ".repeat(200);
+        let cut = wrap_words(&long, 300, width);
+        assert_eq!(cut.len(), NOTE_MAX_LINES);
+        assert!(cut[NOTE_MAX_LINES - 1].ends_with(" …"));
+        // A word longer than the line still appears, alone on its line.
+        assert_eq!(
+            wrap_words("a verylongwordthatdoesnotfit b", 60, width).len(),
+            3
+        );
+    }
 
     pub(crate) fn sample() -> XyChart {
         XyChart {
