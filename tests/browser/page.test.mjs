@@ -412,3 +412,44 @@ test('a correction that leaves the table unreadable is explained, and undoing it
   clean(problems);
   await context.close();
 });
+
+test('the unit switch converts every shown energy; a column unit re-reads the table; hovering a point reads it out', async () => {
+  const { page, problems, context } = await fresh();
+  const doc = await exportJson(page);
+  // SOURCE: cm⁻¹ per eV and per meV from scipy.constants (CODATA 2022), written by
+  // scripts/oracles/units.py into tests/intake/units_oracle.json.
+  const oracle = JSON.parse(readFileSync(join(ROOT, 'tests/intake/units_oracle.json'), 'utf8'));
+  const perEv = oracle.cm1_per_unit.eV;
+  await page.selectOption('#unit', 'eV');
+  await page.waitForFunction(() => /eV/.test(document.getElementById('d0-line').textContent));
+  const shown = Number.parseFloat(await page.textContent('#d0-value'));
+  const expected = doc.recommended.d0_cm1 / perEv;
+  // The value is rounded to its σ (two significant digits of σ): within half a σ.
+  const sigmaEv = doc.recommended.sigma_stat_cm1 / perEv;
+  assert.ok(Math.abs(shown - expected) <= 0.5 * sigmaEv, `D0 ${shown} eV vs ${expected} eV`);
+  assert.match(await page.textContent('#estimates thead'), /D0 \/ eV/);
+
+  // Hovering the ΔG figure: scan the canvas until the pointer is over a point.
+  await page.click('#figure-tabs [data-figure="spacings"]');
+  const box = await page.locator('#figure').boundingBox();
+  let readout = '';
+  for (let fy = 0.1; fy < 0.9 && !readout; fy += 0.01) {
+    for (let fx = 0.1; fx < 0.3 && !readout; fx += 0.01) {
+      await page.mouse.move(box.x + fx * box.width, box.y + fy * box.height);
+      readout = (await page.textContent('#readout')).trim();
+    }
+  }
+  assert.match(readout, /^ΔG\(v = \d+→\d+\) = [\d.]+ ± \S+ eV$/, `read-out: ${readout}`);
+
+  // The energy column re-read as meV: every energy, and so every D0, scales by cm⁻¹ per meV.
+  await page.selectOption('#unit', 'cm-1');
+  await mark(page);
+  await page.selectOption('#reading select[aria-label="Unit of column 2"]', 'meV');
+  await analysed(page);
+  const mev = await exportJson(page);
+  const obs = (d) => d.estimates.find((e) => e.method === 'observed-sum').d0_cm1;
+  const ratio = obs(mev) / obs(doc);
+  assert.ok(Math.abs(ratio - oracle.cm1_per_unit.meV) < 1e-9 * oracle.cm1_per_unit.meV, `ratio ${ratio}`);
+  clean(problems);
+  await context.close();
+});
