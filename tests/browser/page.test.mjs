@@ -321,6 +321,21 @@ test('bands: both states, the band array and the numbering verdict', async () =>
   await page.waitForFunction(() => document.body.dataset.shownFigure === "array:0");
   assert.ok(await inkedPixels(page, '#figure') > 1500);
   await page.screenshot({ path: screenshotPath('page-bands'), fullPage: true });
+
+  // The band settings reach the analysis. SOURCE: the energy cycle D0″ = T00 + D0′ − E_atom
+  // (domain.md, closed form): raising E_atom by 100 cm⁻¹ lowers D0″ by exactly 100 cm⁻¹ and
+  // leaves E_lim alone.
+  const before = await exportJson(page);
+  const eAtom = before.session.settings.bands.atomic_excitation_cm1;
+  await page.evaluate(() => { document.getElementById('settings-box').open = true; });
+  await mark(page);
+  await page.fill('#settings [name=atomic_excitation_cm1]', String(eAtom + 100));
+  await page.press('#settings [name=atomic_excitation_cm1]', 'Enter');
+  await analysed(page);
+  const after = await exportJson(page);
+  assert.equal(after.convergence.upper_limit_cm1.value, before.convergence.upper_limit_cm1.value);
+  const drop = before.convergence.d0_lower_cm1.value - after.convergence.d0_lower_cm1.value;
+  assert.ok(Math.abs(drop - 100) < 1e-6, `D0″ moved by ${drop}`);
   clean(problems);
   await context.close();
 });
