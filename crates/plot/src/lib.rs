@@ -399,7 +399,16 @@ fn compose(
     let stroke = px(1.6);
     let marker = px(3.6);
     let mut any_label = false;
-    let mut v_rules = 0usize;
+    // Vertical rules in order of position: neighbours on the axis get different label heights.
+    let mut rule_xs: Vec<f64> = chart
+        .layers
+        .iter()
+        .filter_map(|l| match &l.mark {
+            Mark::VRule { x, text } if !text.is_empty() => Some(*x),
+            _ => None,
+        })
+        .collect();
+    rule_xs.sort_by(f64::total_cmp);
     for layer in &chart.layers {
         let colour = rgb(layer.colour);
         let style = ShapeStyle::from(&colour).stroke_width(stroke);
@@ -494,14 +503,24 @@ fn compose(
                     line_legend!(annotated, &layer.label, d, style, s);
                 }
                 if !text.is_empty() {
-                    // Labels sit near the bottom (legends go top right), staggered so neighbours stay readable.
-                    let drop = 0.02 + 0.045 * (v_rules % 6) as f64;
-                    v_rules += 1;
+                    // Labels sit near the bottom (legends go top right), at heights staggered
+                    // by the rule's rank along the axis so that neighbours stay readable, and
+                    // on the rule's right, where a limit has no data beyond it, unless the
+                    // rule is too close to the right edge.
+                    let rank = rule_xs.iter().position(|r| r == x).unwrap_or(0);
+                    let rise = 0.03 + 0.06 * (rank % 4) as f64;
+                    let (x0, x1) = x_range;
+                    let room = (x1 - *x) / (x1 - x0);
+                    let (hpos, gap) = if room > 0.14 {
+                        (HPos::Left, 0.006)
+                    } else {
+                        (HPos::Right, -0.006)
+                    };
                     let font = ("sans-serif", 12.0 * s).into_font().color(&colour);
                     ctx.draw_series(std::iter::once(Text::new(
                         text.clone(),
-                        (*x, y0 + (y1 - y0) * drop),
-                        font.pos(Pos::new(HPos::Right, VPos::Bottom)),
+                        (*x + gap * (x1 - x0), y0 + (y1 - y0) * rise),
+                        font.pos(Pos::new(hpos, VPos::Bottom)),
                     )))
                     .map_err(backend_err)?;
                 }
