@@ -775,6 +775,39 @@ pub fn render_text(r: &Report) -> String {
         let _ = writeln!(s);
     }
 
+    if let Some(p) = &r.potential {
+        let _ = writeln!(s, "Closing the loop: potential and levels");
+        let _ = writeln!(s, "  {}; r_e = {:.5} Å", p.method, p.re_angstrom);
+        let _ = writeln!(s, "  {}", p.note);
+        let _ = writeln!(s, "  {}", p.check.summary);
+        let _ = writeln!(
+            s,
+            "  {:>6} {:>14} {:>14} {:>12} {:>10} {:>12}",
+            "v", "observed", "calculated", "obs−calc", "/σ", "B obs−calc"
+        );
+        for row in &p.check.rows {
+            let _ = writeln!(
+                s,
+                "  {:>6} {:>14.4} {:>14.4} {:>12.4} {:>10} {:>12}",
+                row.v,
+                row.observed_cm1,
+                row.calculated_cm1,
+                row.residual_cm1,
+                num(row.normalized_residual, 2),
+                row.b_residual_cm1
+                    .map(|b| format!("{b:.2e}"))
+                    .unwrap_or("—".into())
+            );
+        }
+        for w in &p.warnings {
+            let _ = writeln!(s, "  ! {w}");
+        }
+        let _ = writeln!(s);
+    } else if let Some(n) = &r.potential_note {
+        let _ = writeln!(s, "Closing the loop: {n}");
+        let _ = writeln!(s);
+    }
+
     let _ = writeln!(
         s,
         "Monte Carlo: {} (seed {}, {} samples, {})",
