@@ -139,10 +139,13 @@ def notebook_analysis(v, e, sig, mc=MC_SAMPLES, seed=SEED, n_lb=LB_N, max_order=
             order = lo
             break
     out["order"] = order
-    chi2r = chi2[order] / (n_pts - order - 1)
-    scale = math.sqrt(max(chi2r, 1.0))
-    out["scale_factor"] = scale
-    sig_eff = sig * scale
+    # σ scaling, per method (scipy's absolute_sigma=False convention, floored at 1): each
+    # estimate's draws are widened by √χ²_ν of its own fit; the observed sum has no fit.
+    def own_scale(chi2_value, dof):
+        return math.sqrt(max(chi2_value / dof, 1.0)) if dof > 0 else 1.0
+
+    out["scale_factor"] = own_scale(chi2[order], n_pts - order - 1)
+    scales = {"observed-sum": 1.0}
     v_lo, v_hi = float(v.min()), float(v.max())
     span = max(v_hi - v_lo, 1.0)
     assert v_lo == 0.0, "this notebook handles data that include v = 0"
@@ -154,11 +157,13 @@ def notebook_analysis(v, e, sig, mc=MC_SAMPLES, seed=SEED, n_lb=LB_N, max_order=
     nominal = {}
     nominal["observed-sum"] = {"d0": float(e[-1] - e[0])}
     lin = fits[2]
+    scales["birge-sponer-linear"] = own_scale(chi2[2], n_pts - 3)
     vd = first_maximum(lin, v_lo, np.inf)
     nominal["birge-sponer-linear"] = None if vd is None or vd < v_hi else {
         "d0": float(lin(vd) - lin(0.0)), "v_d": vd}
     k_c = max(order, 3)
     cur = fits[k_c] if k_c in fits else Polynomial.fit(v, e, k_c, w=1 / sig)
+    scales["birge-sponer-curved"] = own_scale(float(np.sum(((e - cur(v)) / sig) ** 2)), n_pts - k_c - 1)
     vd = first_maximum(cur, v_lo, v_hi + max(10 * span, 10))
     nominal["birge-sponer-curved"] = None if (vd is None or vd < v_hi or vd > v_hi + span) else {
         "d0": float(cur(vd) - cur(0.0)), "v_d": vd}
@@ -183,19 +188,21 @@ def notebook_analysis(v, e, sig, mc=MC_SAMPLES, seed=SEED, n_lb=LB_N, max_order=
                                      xtol=1e-13, ftol=1e-13, gtol=1e-13, maxfev=100000)
         nominal[name] = {"d0": float(popt[0] - e0_of(e)), "v_d": float(popt[1]), "theta": popt,
                          "k": k, "model": model, "n": float(popt[3]) if free else n_lb}
+        scales[name] = own_scale(float(np.sum(((ee - model(vv, *popt)) / ss) ** 2)), k - len(popt))
+    out["scales"] = scales
     out["nominal"] = nominal
 
     # Monte Carlo: redraw the levels, refit every model (curve_fit on each draw, warm start).
     rng = np.random.default_rng(seed)
     draws = {name: [] for name, val in nominal.items() if val is not None}
     for _ in range(mc):
-        es = e + sig_eff * rng.standard_normal(n_pts)
-        e0 = e0_of(es)
+        z = sig * rng.standard_normal(n_pts)
         if "observed-sum" in draws:
-            draws["observed-sum"].append(es[-1] - e0)
+            draws["observed-sum"].append((e[-1] + z[-1]) - (e[0] + z[0]))
         for name, k in (("birge-sponer-linear", 2), ("birge-sponer-curved", k_c)):
             if name not in draws:
                 continue
+            es = e + scales[name] * z
             pf = Polynomial.fit(v, es, k, w=1 / sig)
             end = np.inf if k == 2 else v_hi + max(10 * span, 10)
             r = first_maximum(pf, v_lo, end)
@@ -209,6 +216,8 @@ def notebook_analysis(v, e, sig, mc=MC_SAMPLES, seed=SEED, n_lb=LB_N, max_order=
         for name in lb_specs:
             nom = nominal[name]
             k = nom["k"]
+            es = e + scales[name] * z
+            e0 = e0_of(es)
             try:
                 with warnings.catch_warnings():
                     warnings.simplefilter("ignore")
@@ -376,6 +385,10 @@ def compare(args):
     checks.check(ra["order"] == nb["order"], f"analysis: selected order {ra['order']} (Rungs) vs {nb['order']} (notebook)")
     checks.check(abs(ra["scale_factor"] - nb["scale_factor"]) <= 1e-6 * nb["scale_factor"],
                  f"analysis: σ scale factor √χ²_ν {ra['scale_factor']:.6f} vs {nb['scale_factor']:.6f} (1e-6 relative)")
+    for name, sc in nb["scales"].items():
+        got = (ra["methods"].get(name) or {}).get("sigma_scale")
+        checks.check(got is not None and abs(got - sc) <= 1e-6 * sc,
+                     f"analysis: {name}: σ scale √χ²_ν of its own fit {got} vs {sc:.6f} (1e-6 relative)")
     for name, val in nb["nominal"].items():
         rm = ra["methods"].get(name)
         if rm is None:

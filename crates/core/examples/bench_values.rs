@@ -31,7 +31,7 @@ fn analysis_values(report: &Report) -> Value {
                 e.method.clone(),
                 json!({
                     "d0_cm1": e.d0_cm1, "d0_sigma_cm1": e.d0_sigma_cm1, "de_cm1": e.de_cm1,
-                    "v_d": e.v_d, "monte_carlo": mc,
+                    "v_d": e.v_d, "monte_carlo": mc, "sigma_scale": e.sigma_scale,
                     "n": e.leroy_bernstein.as_ref().map(|l| l.n.value),
                     "levels_used": e.leroy_bernstein.as_ref().map(|l| l.levels_used.clone()),
                 }),
