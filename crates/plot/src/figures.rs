@@ -289,7 +289,12 @@ pub fn near_limit(report: &Report) -> Option<XyChart> {
     Some(XyChart {
         title: format!("Near-dissociation plot, n = {}", lin.n),
         x_label: "x = v + ½".into(),
-        y_label: format!("(ΔG / cm⁻¹)^{:.4}", lin.exponent),
+        y_label: format!(
+            "(ΔG / cm⁻¹)^{}",
+            format!("{:.4}", lin.exponent)
+                .trim_end_matches('0')
+                .trim_end_matches('.')
+        ),
         layers: vec![
             Layer {
                 label: "LeRoy–Bernstein line".into(),
@@ -585,6 +590,14 @@ pub fn band_array(
         (lo - 0.7, hi + 0.7)
     };
     let synthetic = session.is_some_and(|s| s.input.text.contains("SYNTHETIC"));
+    // Cells fill the whole plot, so every corner holds data: the legend gets a strip of its own
+    // above the top row (about 8 % of the height per entry).
+    let y_range = {
+        let (lo, hi) = span(&array.v_lower);
+        let entries = layers.iter().filter(|l| !l.label.is_empty()).count() as f64;
+        let free = (0.04 + 0.08 * entries).min(0.5);
+        (lo, lo + (hi - lo) / (1.0 - free))
+    };
     XyChart {
         title: match &array.isotopologue {
             Some(t) => format!("Band array of {t}: (v′, v″) cells"),
@@ -594,7 +607,9 @@ pub fn band_array(
         y_label: "v″ (lower state)".into(),
         layers,
         x_range: Some(span(&array.v_upper)),
-        y_range: Some(span(&array.v_lower)),
+        // Cells fill the whole plot, so every corner holds data: the legend gets a strip of its
+        // own above the top row (about 8 % of the height per entry).
+        y_range: Some(y_range),
         note: format!(
             "{}{} flagged of {} bands; rows of constant v″ give ΔG′ differences, columns of constant v′ give ΔG″",
             if synthetic { "SYNTHETIC data · " } else { "" },
@@ -785,7 +800,7 @@ pub fn loop_check(report: &Report, scale: EnergyScale) -> Option<XyChart> {
         x_range: None,
         y_range: None,
         note: format!(
-            "{}one common offset fitted; {}",
+            "{}one common offset fitted · {}",
             synthetic_note(report),
             p.check.summary.split(". ").next().unwrap_or("")
         ),

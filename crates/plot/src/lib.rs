@@ -180,7 +180,8 @@ fn yes() -> bool {
     true
 }
 
-/// Where the legend goes, chosen per figure to stay clear of the data.
+/// The preferred corner for the legend, chosen per figure to stay clear of the data; the drawing
+/// moves the legend to a less crowded corner when data crowd this one.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
 #[serde(rename_all = "snake_case")]
 pub enum Legend {
@@ -389,6 +390,8 @@ fn compose(
     }
     mesh.x_desc(&chart.x_label)
         .y_desc(&chart.y_label)
+        .x_label_formatter(&tick_label)
+        .y_label_formatter(&tick_label)
         .label_style(("sans-serif", 12.0 * s))
         .axis_desc_style(("sans-serif", 13.0 * s))
         .light_line_style(RGBColor(236, 238, 241))
@@ -547,7 +550,7 @@ fn compose(
         }
     }
     if any_label {
-        let position = match chart.legend {
+        let position = match least_crowded_corner(chart, x_range, y_range) {
             Legend::UpperRight => SeriesLabelPosition::UpperRight,
             Legend::UpperLeft => SeriesLabelPosition::UpperLeft,
             Legend::LowerLeft => SeriesLabelPosition::LowerLeft,
@@ -578,6 +581,79 @@ fn compose(
         x_range,
         y_range,
     })
+}
+
+/// The corner for the legend: the chart's preferred one unless another holds fewer data
+/// (points, line vertices, segment ends) in a box of 45 % of the width and 40 % of the height,
+/// so the legend does not hide data that happen to crowd the preferred corner.
+fn least_crowded_corner(chart: &XyChart, x_range: (f64, f64), y_range: (f64, f64)) -> Legend {
+    let (x0, x1) = x_range;
+    let (y0, y1) = y_range;
+    let inside = |corner: Legend, x: f64, y: f64| {
+        let fx = (x - x0) / (x1 - x0);
+        let fy = (y - y0) / (y1 - y0);
+        let right = fx >= 0.55;
+        let left = fx <= 0.45;
+        let top = fy >= 0.6;
+        let bottom = fy <= 0.4;
+        match corner {
+            Legend::UpperRight => right && top,
+            Legend::UpperLeft => left && top,
+            Legend::LowerLeft => left && bottom,
+            Legend::LowerRight => right && bottom,
+        }
+    };
+    let count = |corner: Legend| -> usize {
+        let mut n = 0;
+        for layer in &chart.layers {
+            match &layer.mark {
+                Mark::Points { points, .. } => {
+                    n += points.iter().filter(|p| inside(corner, p.x, p.y)).count();
+                }
+                Mark::Line { points, .. } => {
+                    n += points.iter().filter(|p| inside(corner, p.0, p.1)).count();
+                }
+                Mark::Segments { segments, .. } => {
+                    n += segments
+                        .iter()
+                        .flat_map(|(a, b)| [a, b])
+                        .filter(|p| inside(corner, p.0, p.1))
+                        .count();
+                }
+                Mark::VRule { .. } | Mark::HRule { .. } => {}
+            }
+        }
+        n
+    };
+    let order = [
+        chart.legend,
+        Legend::UpperRight,
+        Legend::UpperLeft,
+        Legend::LowerRight,
+        Legend::LowerLeft,
+    ];
+    let mut best = (chart.legend, count(chart.legend));
+    for corner in order {
+        let n = count(corner);
+        if n < best.1 {
+            best = (corner, n);
+        }
+    }
+    best.0
+}
+
+/// A tick label without needless digits: whole numbers (quantum numbers, most energies) plain,
+/// others with up to six decimals and no trailing zeros, tiny ones in exponent form.
+fn tick_label(v: &f64) -> String {
+    let v = *v;
+    if v == 0.0 || (v - v.round()).abs() <= 1e-9 * v.abs().max(1.0) {
+        return format!("{:.0}", v.round() + 0.0);
+    }
+    if v.abs() < 1e-4 {
+        return format!("{v:.2e}");
+    }
+    let text = format!("{v:.6}");
+    text.trim_end_matches('0').trim_end_matches('.').to_string()
 }
 
 /// Most lines the note under a chart may take; a longer note ends in "…".
@@ -728,6 +804,58 @@ pub fn to_svg(chart: &XyChart, width: u32, height: u32) -> Result<String, PlotEr
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The legend leaves a corner that data crowd for an emptier one, and keeps its preferred
+    /// corner when that is as empty as any (common practice, no source).
+    #[test]
+    fn legend_avoids_crowded_corners() {
+        let mut chart = sample();
+        let pts = |xy: &[(f64, f64)]| Layer {
+            label: "data".into(),
+            colour: 0,
+            mark: Mark::Points {
+                points: xy
+                    .iter()
+                    .map(|&(x, y)| Point {
+                        x,
+                        y,
+                        y_err: None,
+                        included: true,
+                        tag: String::new(),
+                    })
+                    .collect(),
+                shape: Shape::Circle,
+            },
+        };
+        chart.layers = vec![pts(&[
+            (9.0, 9.0),
+            (9.5, 9.5),
+            (0.0, 0.0),
+            (10.0, 10.0),
+            (0.5, 9.5),
+        ])];
+        chart.legend = Legend::UpperRight;
+        assert_eq!(
+            least_crowded_corner(&chart, (0.0, 10.0), (0.0, 10.0)),
+            Legend::LowerRight
+        );
+        chart.layers = vec![pts(&[(0.0, 0.0), (10.0, 0.0)])];
+        assert_eq!(
+            least_crowded_corner(&chart, (0.0, 10.0), (0.0, 10.0)),
+            Legend::UpperRight
+        );
+    }
+
+    /// Tick labels drop needless digits (common practice, no source).
+    #[test]
+    fn tick_labels_are_plain() {
+        assert_eq!(tick_label(&5.0), "5");
+        assert_eq!(tick_label(&-0.0), "0");
+        assert_eq!(tick_label(&4420.0), "4420");
+        assert_eq!(tick_label(&0.30000000000000004), "0.3");
+        assert_eq!(tick_label(&-2.5), "-2.5");
+        assert_eq!(tick_label(&0.00002), "2.00e-5");
+    }
 
     /// Notes wrap at spaces within the width, keep every word in order, and stop at
     /// NOTE_MAX_LINES with an ellipsis (common practice, no source).
