@@ -128,30 +128,36 @@ export class Results {
   }
 
   estimatesTable(report, u, label) {
-    const head = ['method', `D0 / ${label}`, `De / ${label}`, 'v_D', 'bound levels', 'extrap­olated', `MC median [16 %, 84 %] / ${label}`, 'σ scale', 'in the recom­mendation'];
+    // Three rows per method: its name (bold when it enters the recommendation), its numbers, and
+    // what it rests on. The name spans the table so the numbers keep the width.
+    const head = [`D0 / ${label}`, `De / ${label}`, 'v_D', 'bound levels', 'extrap\u00adolated', `MC median [16 %, 84 %] / ${label}`];
     const body = [];
     for (const e of report.estimates) {
       const mc = e.monte_carlo?.d0;
+      // Median on one line, the 16–84 % interval under it, so the column stays narrow.
       const mcText = mc && mc.median !== null
-        ? `${this.energy(mc.median, null, u)[0]} [${mc.p16 === null ? '—' : this.energy(mc.p16, null, u)[0]}, ${mc.p84 === null ? '—' : this.energy(mc.p84, null, u)[0]}]`
+        ? [this.energy(mc.median, null, u)[0], el('br'),
+          `[${mc.p16 === null ? '—' : this.energy(mc.p16, null, u)[0]}, ${mc.p84 === null ? '—' : this.energy(mc.p84, null, u)[0]}]`]
         : '—';
       const cls = e.defensible ? 'defensible' : 'other';
-      body.push(el('tr', { class: `${cls} main`, 'data-method': e.method },
-        el('th', { scope: 'row', title: e.method }, e.label),
+      body.push(el('tr', { class: `${cls} name-row`, 'data-method': e.method },
+        el('th', { scope: 'rowgroup', colspan: head.length, title: e.method },
+          e.label, el('span', { class: 'in-rec' }, e.defensible ? ' · in the recommendation' : ' · not in the recommendation'),
+          e.d0_cm1 === null || e.sigma_scale === null || e.sigma_scale === undefined || e.sigma_scale === 1 ? null
+            : el('span', { class: 'in-rec', title: 'factor applied to the data σ for this method: √χ²ν of its own fit under the σ-scaling setting' },
+              ` · data σ ×${e.sigma_scale < 10 ? e.sigma_scale.toFixed(2) : e.sigma_scale.toFixed(1)}`))));
+      body.push(el('tr', { class: `${cls} main` },
         el('td', { class: 'num' }, e.d0_cm1 === null ? '—' : this.pm(e.d0_cm1, e.d0_sigma_cm1, u)),
         el('td', { class: 'num' }, e.de_cm1 === null ? '—' : this.pm(e.de_cm1, e.de_sigma_cm1, u)),
         el('td', { class: 'num' }, e.v_d === null ? '—' : this.num(e.v_d, e.v_d_sigma, 4)),
         el('td', { class: 'num' }, e.n_bound ?? '—'),
         el('td', { class: 'num' }, e.extrapolated_fraction === null ? '—' : `${(100 * e.extrapolated_fraction).toFixed(1)} %`),
-        el('td', { class: 'num' }, mcText),
-        el('td', { class: 'num', title: 'factor applied to the data σ for this method: √χ²ν of its own fit under the σ-scaling setting' },
-          e.sigma_scale === null || e.sigma_scale === undefined ? '—' : `×${e.sigma_scale < 10 ? e.sigma_scale.toFixed(2) : e.sigma_scale.toFixed(1)}`),
-        el('td', {}, e.defensible ? 'yes' : 'no')));
+        el('td', { class: 'num' }, mcText)));
       body.push(el('tr', { class: `${cls} note-row` },
         el('td', { colspan: head.length, class: 'note' }, e.defensible ? e.defensible_reason : `${e.reason}; ${e.defensible_reason}`)));
     }
     return el('table', { class: 'estimates' },
-      el('caption', {}, 'σ: one standard deviation, statistical only: the data covariance, with the data σ multiplied by the method\'s σ scale (√χ²ν of its own fit when the σ-scaling setting applies; ×1 for the observed sum)'),
+      el('caption', {}, 'σ: one standard deviation, statistical only: the data covariance, with the data σ multiplied by √χ²ν of the method\'s own fit when the σ-scaling setting applies (shown beside its name; the observed sum has no fit and keeps the data σ)'),
       el('thead', {}, el('tr', {}, head.map((h) => el('th', { scope: 'col' }, h)))),
       el('tbody', {}, body));
   }
