@@ -88,6 +88,19 @@ fn single_state(r: &Report, refs: &mut Refs, who: &str) -> String {
              Monte Carlo); the model uncertainty is half the spread of the defensible estimates. ",
         );
     }
+    s.push_str(match (r.input.sigma_source, r.uncertainty.policy) {
+        (crate::report::SigmaSource::EstimatedFromScatter, _) => {
+            "No data σ were given; they were estimated from the scatter about the selected fit. "
+        }
+        (_, crate::settings::SigmaScaling::Never) => "The data σ were used as given. ",
+        (_, crate::settings::SigmaScaling::WhenAboveOne) => {
+            "For each estimate the data σ were multiplied by √χ²_ν of its own fit where χ²_ν \
+             exceeded 1. "
+        }
+        (_, crate::settings::SigmaScaling::Always) => {
+            "For each estimate the data σ were multiplied by √χ²_ν of its own fit. "
+        }
+    });
     if let Some(p) = &r.potential {
         s.push_str(&format!(
             "A first-order RKR potential {} was built from the fitted G(v) and the given B_v; its \
@@ -168,5 +181,29 @@ mod tests {
             sha256_hex("abc"),
             "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
         );
+    }
+
+    /// The methods paragraph states the σ-scaling policy in force (common practice, no source:
+    /// a methods section says how uncertainties were treated).
+    #[test]
+    fn paragraph_states_the_sigma_policy() {
+        use crate::settings::SigmaScaling;
+        let example = crate::examples::example("qz2-low-levels").expect("example");
+        for (policy, says) in [
+            (SigmaScaling::Never, "The data σ were used as given."),
+            (SigmaScaling::WhenAboveOne, "where χ²_ν exceeded 1."),
+            (SigmaScaling::Always, "multiplied by √χ²_ν of its own fit. "),
+        ] {
+            let mut session = example.session();
+            session.settings.sigma_scaling = policy;
+            session.settings.mc_samples = 0;
+            let analysis =
+                crate::pipeline::analyze_session(&session, &mut |_, _| {}).expect("analysis");
+            let Analysis::Levels(r) = &analysis else {
+                panic!("levels");
+            };
+            let paragraph = &r.methods.as_ref().expect("methods").paragraph;
+            assert!(paragraph.contains(says), "{policy:?}: {paragraph}");
+        }
     }
 }
