@@ -217,7 +217,7 @@ def notebook_analysis(v, e, sig, mc=MC_SAMPLES, seed=SEED, n_lb=LB_N, max_order=
             nom = nominal[name]
             k = nom["k"]
             es = e + scales[name] * z
-            e0 = e0_of(es)
+            e0 = e0_of(e + z)  # G(0) is an observed level: it keeps the data σ
             try:
                 with warnings.catch_warnings():
                     warnings.simplefilter("ignore")

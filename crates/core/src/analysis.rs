@@ -345,6 +345,9 @@ struct Work {
     /// χ²_ν of the estimate's own fit (the polynomial it extrapolates, or its near-dissociation
     /// fit), which sets its σ scaling; `None` without a fit of its own (the observed sum).
     own_chi2r: Option<f64>,
+    /// The nominal limit's gradients already carry each part's σ factor (observed sum,
+    /// near-dissociation fits), so the estimate-wide factor is not applied to them again.
+    prescaled: bool,
 }
 
 /// Largest long-range exponent a free-n near-dissociation fit may return and still be kept in
@@ -440,6 +443,28 @@ fn run(
     let cov_eff = &data.cov * factor2;
     let cov_opt = estimable.then_some(&cov_eff);
 
+    // σ scaling per estimate: each part of an estimate carries the σ factor of the fit it comes
+    // from, √policy(χ²_ν) — a model's misfit widens its own σ and no other's. Observed levels
+    // (the observed sum, G(0) when v = 0 is observed) keep the data σ as given: no model can tell
+    // noise from misfit for them. The vibrational constants and G(0) extrapolated by the
+    // selected polynomial keep that fit's factor, which `cov_eff` already carries; `rel_of`
+    // converts a factor to cov_eff's terms. With σ estimated from the scatter, that one estimate
+    // applies to everything.
+    let policy = |c: f64| match settings.sigma_scaling {
+        SigmaScaling::Never => 1.0,
+        SigmaScaling::WhenAboveOne => c.max(1.0),
+        SigmaScaling::Always => c,
+    };
+    let per_method = estimable && factor2 > 0.0 && source != SigmaSource::EstimatedFromScatter;
+    let rel_of = |own2: f64| {
+        if per_method {
+            (own2 / factor2).sqrt()
+        } else {
+            1.0
+        }
+    };
+    let rel_obs = rel_of(1.0);
+
     // Level view, context.
     let view = LevelView::of(&data);
     let (v_bottom, v_top) = data.level_range();
@@ -450,27 +475,34 @@ fn run(
     let zp_row: Vec<f64> = r_0.iter().zip(&r_m).map(|(a, b)| a - b).collect();
     let zero_point = lin_of_shape(&sel, &zp_row);
     let e0_observed = view.as_ref().is_some_and(|w| w.v.first() == Some(&0.0));
-    let (e0, observed_span, top_lin) = match &view {
+    // e0 and the top level as they enter the estimates, each part with its own σ factor (`_x`).
+    let (e0, e0_x, observed_span, top_lin) = match &view {
         Some(w) => {
             let row = |i: usize| Lin {
                 value: w.e[i],
                 grad: w.map.row(i).transpose(),
             };
             let last = w.v.len() - 1;
-            let e0 = if e0_observed {
-                row(0)
+            let (e0, e0_x) = if e0_observed {
+                (row(0), row(0).grad_scaled(rel_obs))
             } else {
                 let down: Vec<f64> = r_b.iter().zip(&r_0).map(|(a, b)| a - b).collect();
-                row(0).minus(&lin_of_shape(&sel, &down))
+                let down = lin_of_shape(&sel, &down);
+                (
+                    row(0).minus(&down),
+                    row(0).grad_scaled(rel_obs).minus(&down),
+                )
             };
-            (e0, w.e[last] - w.e[0], Some(row(last)))
+            (e0, e0_x, w.e[last] - w.e[0], Some(row(last)))
         }
         None => {
             let span: Vec<f64> = r_t.iter().zip(&r_b).map(|(a, b)| a - b).collect();
             warnings.push("the spacings have a gap: no levels can be rebuilt across it, so the observed sum and the near-dissociation fits are not available; the observed span is taken from the fit".into());
-            (Lin::constant(0.0, n), lin_of_shape(&sel, &span).value, None)
+            let zero = Lin::constant(0.0, n);
+            (zero.clone(), zero, lin_of_shape(&sel, &span).value, None)
         }
     };
+    let top_x = top_lin.as_ref().map(|t| t.grad_scaled(rel_obs));
     if !e0_observed && view.is_some() {
         warnings.push(format!(
             "v = 0 is not among the data: G(0), and with it every D0, use the order-{k_sel} polynomial extrapolated down from v = {v_bottom}"
@@ -491,8 +523,8 @@ fn run(
     let mut works: Vec<Work> = Vec::new();
 
     // Observed sum.
-    if let Some(top) = &top_lin {
-        let d0 = top.minus(&e0);
+    if let Some(top) = &top_x {
+        let d0 = top.minus(&e0_x);
         let de = d0.plus(&zero_point);
         let label = "Observed sum of spacings (lower bound)".to_string();
         works.push(Work {
@@ -514,6 +546,7 @@ fn run(
             lb_line: None,
             veto: None,
             own_chi2r: None,
+            prescaled: true,
         });
     }
 
@@ -540,6 +573,7 @@ fn run(
                     lb_line: None,
                     veto: None,
                     own_chi2r: None,
+                    prescaled: false,
                 };
             }
             let fit = match get_fit(k) {
@@ -560,6 +594,7 @@ fn run(
                         lb_line: None,
                         veto: None,
                         own_chi2r: None,
+                        prescaled: false,
                     };
                 }
             };
@@ -608,6 +643,7 @@ fn run(
                 lb_line: None,
                 veto: None,
                 own_chi2r: fit.chi2_reduced(),
+                prescaled: false,
             }
         };
     works.push(poly_work(
@@ -713,6 +749,7 @@ fn run(
                 lb_line: None,
                 veto: None,
                 own_chi2r: None,
+                prescaled: false,
             });
             lb_fits.push(None);
             continue;
@@ -738,6 +775,7 @@ fn run(
                 lb_line: None,
                 veto: None,
                 own_chi2r: None,
+                prescaled: false,
             });
             lb_fits.push(None);
             continue;
@@ -784,11 +822,17 @@ fn run(
                     lb_line: None,
                     veto: None,
                     own_chi2r: None,
+                    prescaled: false,
                 });
                 lb_fits.push(None);
             }
             LbOutcome::Fit(f) => {
-                let d0 = f.d.minus(&e0);
+                // The asymptote D and v_D carry this fit's own σ factor; G(0) (e0_x) and the
+                // zero point theirs.
+                let own_chi2r = (f.dof > 0).then(|| f.chi2 / f.dof as f64);
+                let rel_lb = rel_of(own_chi2r.map_or(1.0, policy));
+                let d_x = f.d.grad_scaled(rel_lb);
+                let d0 = d_x.minus(&e0_x);
                 details.n = if n_fitted {
                     vs(&f.n, cov_opt)
                 } else {
@@ -804,8 +848,8 @@ fn run(
                 details.dof = Some(f.dof);
                 details.termination = Some(f.termination);
                 details.iterations = Some(f.iterations);
-                if let Some(top) = &top_lin {
-                    details.top_binding_cm1 = Some(vs(&f.d.minus(top), cov_opt));
+                if let Some(top) = &top_x {
+                    details.top_binding_cm1 = Some(vs(&d_x.minus(top), cov_opt));
                 }
                 if let Some(mu) = mu_u {
                     let nn = f.n.value;
@@ -834,14 +878,18 @@ fn run(
                     Nominal::Limit(Limit {
                         d0,
                         de,
-                        v_d: Some(f.v_d.clone()),
+                        v_d: Some(f.v_d.grad_scaled(rel_lb)),
                     })
                 } else {
                     Nominal::NoLimit(
                         "the near-dissociation asymptote lies below the energy of v = 0".into(),
                     )
                 };
-                let est = nd::LbEstimator::new(&input, variant, Some(&f), &ctx);
+                let ctx_x = Context {
+                    e0: e0_x.clone(),
+                    ..ctx.clone()
+                };
+                let est = nd::LbEstimator::new(&input, variant, Some(&f), &ctx_x);
                 let points = sample(x_first + 0.5, (vdv - 0.5).max(x_first + 0.5), 101, |x| {
                     nd::model_value(dv, vdv, x0v, nv, x + 0.5)
                         - nd::model_value(dv, vdv, x0v, nv, x - 0.5)
@@ -875,7 +923,8 @@ fn run(
                             "the fitted n = {nv:.1} lies outside the range of long-range exponents of real molecules (n ≤ {N_FREE_PLAUSIBLE_MAX:.0}): these levels do not determine n"
                         )
                     }),
-                    own_chi2r: (f.dof > 0).then(|| f.chi2 / f.dof as f64),
+                    own_chi2r,
+                    prescaled: true,
                 });
                 lb_fits.push(Some(*f));
             }
@@ -897,18 +946,8 @@ fn run(
         ));
     }
 
-    // Each estimate's statistical σ follows its own fit: σ = σ_data · √policy(χ²_ν of that fit)
-    // — the polynomial it extrapolates, or its near-dissociation fit — so a model's misfit widens
-    // its own σ and no other's. The observed sum has no fit: its σ is the given data σ (no model
-    // can tell noise from misfit for it). cov_eff carries the selected polynomial's factor, so
-    // rel[i] converts to the estimate's own. With σ estimated from the scatter, that single
-    // estimate applies to everything.
-    let policy = |c: f64| match settings.sigma_scaling {
-        SigmaScaling::Never => 1.0,
-        SigmaScaling::WhenAboveOne => c.max(1.0),
-        SigmaScaling::Always => c,
-    };
-    let per_method = estimable && factor2 > 0.0 && source != SigmaSource::EstimatedFromScatter;
+    // Each estimate's statistical σ follows its own fit (see `rel_of` above); the factors below
+    // report it, scale each estimator's Monte Carlo draws and its detail σ.
     let own_factor2: Vec<f64> = works
         .iter()
         .map(|w| {
@@ -921,6 +960,8 @@ fn run(
             }
         })
         .collect();
+    // `rel` scales an estimator's Monte Carlo draws and its detail σ; `lin_rel` its nominal
+    // gradients, which for prescaled estimates already carry every part's own factor.
     let rel: Vec<f64> = own_factor2
         .iter()
         .map(|f| {
@@ -930,6 +971,11 @@ fn run(
                 1.0
             }
         })
+        .collect();
+    let lin_rel: Vec<f64> = works
+        .iter()
+        .zip(&rel)
+        .map(|(w, r)| if w.prescaled { 1.0 } else { *r })
         .collect();
     if per_method {
         let scaled: Vec<String> = works
@@ -1002,7 +1048,7 @@ fn run(
     };
     let observed = works
         .iter()
-        .zip(&rel)
+        .zip(&lin_rel)
         .find(|(w, _)| w.method == "observed-sum")
         .and_then(|(w, r)| match &w.nominal {
             Nominal::Limit(l) => Some(scaled(&l.d0, *r)),
@@ -1010,7 +1056,7 @@ fn run(
         });
     let cands: Vec<Candidate> = works
         .iter()
-        .zip(&rel)
+        .zip(&lin_rel)
         .map(|(w, r)| {
             let (d0, de, ext) = match &w.nominal {
                 Nominal::Limit(l) => (
@@ -1050,6 +1096,7 @@ fn run(
     for (i, mut w) in works.into_iter().enumerate() {
         let (def, def_reason) = assessment.defensible[i].clone();
         let r = rel[i];
+        let r_lin = lin_rel[i];
         let rescale = |x: &mut Option<ValueSigma>| {
             if let Some(v) = x.as_mut() {
                 v.sigma = v.sigma.map(|s| s * r);
@@ -1069,7 +1116,7 @@ fn run(
                 rescale(&mut lb.cn_cm1_an);
                 rescale(&mut lb.cn_au);
             }
-            rescale(&mut lb.top_binding_cm1);
+            // top_binding_cm1 was built from the prescaled parts.
         }
         let mut e = Estimate {
             method: w.method.into(),
@@ -1094,13 +1141,13 @@ fn run(
         match &w.nominal {
             Nominal::Limit(l) => {
                 e.d0_cm1 = Some(l.d0.value);
-                e.d0_sigma_cm1 = cov_opt.map(|c| l.d0.sigma(c) * r);
+                e.d0_sigma_cm1 = cov_opt.map(|c| l.d0.sigma(c) * r_lin);
                 e.de_cm1 = Some(l.de.value);
-                e.de_sigma_cm1 = cov_opt.map(|c| l.de.sigma(c) * r);
+                e.de_sigma_cm1 = cov_opt.map(|c| l.de.sigma(c) * r_lin);
                 e.extrapolated_fraction = Some(ctx.extrapolated_fraction(l.d0.value));
                 if let Some(v) = &l.v_d {
                     e.v_d = Some(v.value);
-                    e.v_d_sigma = cov_opt.map(|c| v.sigma(c) * r);
+                    e.v_d_sigma = cov_opt.map(|c| v.sigma(c) * r_lin);
                     e.n_bound = Some(v.value.floor().max(0.0) as u64 + 1);
                 }
                 e.reason = match w.family {

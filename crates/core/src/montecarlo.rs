@@ -111,6 +111,7 @@ pub const PROGRESS_EVERY: usize = 100;
 
 /// Run `samples` draws from N(y, cov) through every estimator. Estimator `e` sees its draws
 /// with the perturbation multiplied by `scales[e]` (its own σ scaling; 1 leaves the draw as is),
+/// and the unscaled perturbation beside it for parts of its estimate that carry other factors,
 /// so every estimator is fed the same standard-normal numbers. `progress(done, total)` is called
 /// every [`PROGRESS_EVERY`] draws and once at the end (the page shows a progress bar).
 pub fn run(
@@ -175,13 +176,13 @@ pub fn run(
         for (e, est) in estimators.iter_mut().enumerate() {
             let k = scales[e];
             let value = if k == 1.0 {
-                est.draw(&ys, &dy)
+                est.draw(&ys, &dy, &dy)
             } else {
                 for i in 0..n {
                     dy_k[i] = k * dy[i];
                     ys_k[i] = y[i] + dy_k[i];
                 }
-                est.draw(&ys_k, &dy_k)
+                est.draw(&ys_k, &dy_k, &dy)
             };
             let (a, b, c) = match value {
                 DrawValue::Value { d0, de, v_d } => (d0, de, v_d),

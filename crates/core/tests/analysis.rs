@@ -581,6 +581,49 @@ fn each_estimate_scales_by_its_own_fit() {
     );
 }
 
+/// SOURCE: scipy.optimize.least_squares on the noisy SYNTHETIC top-8 Lennard-Jones levels
+/// (oracle `lsq.json`, n = 6): σ(D) with absolute σ and the fit's χ². Under "when above one" the
+/// near-dissociation D0 = D − G(0) takes D's σ scaled by √(χ²/dof) of that fit and G(0)'s σ as
+/// given (v = 0 observed, independent of the top levels), in quadrature; the observed sum keeps
+/// the data σ. Tolerance 1e-4 relative (the oracle's σ tolerance).
+#[test]
+fn near_dissociation_parts_keep_their_own_factors() {
+    let fx = fixture("lsq");
+    let lb = &fx["leroy_bernstein"];
+    let levels = levels_of(&lb["levels"]);
+    let s = AnalysisSettings {
+        sigma_scaling: SigmaScaling::WhenAboveOne,
+        lb_n: 6.0,
+        lb_top_levels: Some(8),
+        lb_fit_n_free: false,
+        mc_samples: 0,
+        ..AnalysisSettings::default()
+    };
+    let r = analyze_levels(&levels, None, None, &s).expect("analysis");
+    let o = &lb["n6"];
+    let dof = 8.0 - 3.0;
+    let chi2r = f(&o["chi2"]) / dof;
+    assert!(chi2r > 1.0, "the oracle fit should scatter more than its σ");
+    let e = est(&r, "leroy-bernstein");
+    check("σ scale", e.sigma_scale.expect("scale"), chi2r.sqrt(), 1e-6);
+    let sigma_d = f(&o["sigma"][0]) * chi2r.sqrt();
+    let sigma_e0 = f(&lb["levels"][0]["sigma_cm1"]);
+    check(
+        "σ(D0) = √(σ_D² χ²_ν + σ_G(0)²)",
+        e.d0_sigma_cm1.expect("σ"),
+        (sigma_d * sigma_d + sigma_e0 * sigma_e0).sqrt(),
+        1e-4,
+    );
+    let d = e
+        .leroy_bernstein
+        .as_ref()
+        .expect("details")
+        .d_cm1
+        .as_ref()
+        .expect("D");
+    check("σ(D) scaled", d.sigma.expect("σ"), sigma_d, 1e-4);
+}
+
 /// SOURCE: scipy.linalg.lstsq on the whitened exact finite-difference design
 /// Σ Y_k[(v+3/2)^k − (v+½)^k] (domain.md §1.4) for spacings, and generalised least squares by a
 /// Cholesky whitening (scipy) for levels with a full covariance; the observed-sum σ equals the

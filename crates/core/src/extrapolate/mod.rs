@@ -49,6 +49,15 @@ impl Lin {
         self.value + self.grad.iter().zip(dy).map(|(g, d)| g * d).sum::<f64>()
     }
 
+    /// The same value with its sensitivity to the data multiplied by `k`: the part of a result
+    /// whose data σ are to be scaled by `k` (a fit's own √χ²_ν).
+    pub fn grad_scaled(&self, k: f64) -> Lin {
+        Lin {
+            value: self.value,
+            grad: &self.grad * k,
+        }
+    }
+
     /// self + other.
     pub fn plus(&self, other: &Lin) -> Lin {
         Lin {
@@ -135,8 +144,10 @@ pub enum DrawValue {
 
 /// An estimator that can be re-run on redrawn data.
 pub trait Redraw {
-    /// Evaluate on y = y0 + dy.
-    fn draw(&mut self, y: &[f64], dy: &[f64]) -> DrawValue;
+    /// Evaluate on y = y0 + dy, where dy is this estimator's draw (the common draw `dy_base`
+    /// times its own σ scale). Parts of an estimate that come from elsewhere (observed levels,
+    /// the selected polynomial) are evaluated on `dy_base` with their own factors folded in.
+    fn draw(&mut self, y: &[f64], dy: &[f64], dy_base: &[f64]) -> DrawValue;
 }
 
 /// An estimator that is linear in the data (the observed sum): exact under redraws.
@@ -149,10 +160,10 @@ pub struct LinearEstimator {
 }
 
 impl Redraw for LinearEstimator {
-    fn draw(&mut self, _y: &[f64], dy: &[f64]) -> DrawValue {
+    fn draw(&mut self, _y: &[f64], _dy: &[f64], dy_base: &[f64]) -> DrawValue {
         DrawValue::Value {
-            d0: self.d0.at(dy),
-            de: self.de.at(dy),
+            d0: self.d0.at(dy_base),
+            de: self.de.at(dy_base),
             v_d: f64::NAN,
         }
     }

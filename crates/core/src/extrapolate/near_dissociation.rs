@@ -694,7 +694,7 @@ impl LbEstimator {
 }
 
 impl Redraw for LbEstimator {
-    fn draw(&mut self, y: &[f64], dy: &[f64]) -> DrawValue {
+    fn draw(&mut self, y: &[f64], _dy: &[f64], dy_base: &[f64]) -> DrawValue {
         if !self.active {
             return DrawValue::Failed;
         }
@@ -759,13 +759,13 @@ impl Redraw for LbEstimator {
         if vd - v_max > DELTA_MAX {
             return DrawValue::NoLimit;
         }
-        let d0 = d - self.e0.at(dy);
+        let d0 = d - self.e0.at(dy_base);
         if d0 <= 0.0 {
             return DrawValue::Failed;
         }
         DrawValue::Value {
             d0,
-            de: d0 + self.zero_point.at(dy),
+            de: d0 + self.zero_point.at(dy_base),
             v_d: vd,
         }
     }

@@ -346,7 +346,7 @@ impl PolyEstimator {
 }
 
 impl Redraw for PolyEstimator {
-    fn draw(&mut self, y: &[f64], _dy: &[f64]) -> DrawValue {
+    fn draw(&mut self, y: &[f64], _dy: &[f64], _dy_base: &[f64]) -> DrawValue {
         if !self.nominal_vd.is_finite() {
             return DrawValue::Failed;
         }
