@@ -145,7 +145,7 @@ export class Results {
           e.label, el('span', { class: 'in-rec' }, e.defensible ? ' · in the recommendation' : ' · not in the recommendation'),
           e.d0_cm1 === null || e.sigma_scale === null || e.sigma_scale === undefined || e.sigma_scale === 1 ? null
             : el('span', { class: 'in-rec', title: 'factor applied to the data σ for this method: √χ²ν of its own fit under the σ-scaling setting' },
-              ` · data σ ×${e.sigma_scale < 10 ? e.sigma_scale.toFixed(2) : e.sigma_scale.toFixed(1)}`))));
+              ` · data σ ×${this.num(e.sigma_scale, null, 3)}`))));
       body.push(el('tr', { class: `${cls} main` },
         el('td', { class: 'num' }, e.d0_cm1 === null ? '—' : this.pm(e.d0_cm1, e.d0_sigma_cm1, u)),
         el('td', { class: 'num' }, e.de_cm1 === null ? '—' : this.pm(e.de_cm1, e.de_sigma_cm1, u)),

@@ -289,12 +289,7 @@ pub fn near_limit(report: &Report) -> Option<XyChart> {
     Some(XyChart {
         title: format!("Near-dissociation plot, n = {}", lin.n),
         x_label: "x = v + ½".into(),
-        y_label: format!(
-            "(ΔG / cm⁻¹)^{}",
-            format!("{:.4}", lin.exponent)
-                .trim_end_matches('0')
-                .trim_end_matches('.')
-        ),
+        y_label: format!("(ΔG / cm⁻¹)^{}", crate::tick_label(&lin.exponent)),
         layers: vec![
             Layer {
                 label: "LeRoy–Bernstein line".into(),

@@ -642,9 +642,9 @@ fn least_crowded_corner(chart: &XyChart, x_range: (f64, f64), y_range: (f64, f64
     best.0
 }
 
-/// A tick label without needless digits: whole numbers (quantum numbers, most energies) plain,
+/// A tick label (or any plain number in a label) without needless digits: whole numbers (quantum numbers, most energies) plain,
 /// others with up to six decimals and no trailing zeros, tiny ones in exponent form.
-fn tick_label(v: &f64) -> String {
+pub(crate) fn tick_label(v: &f64) -> String {
     let v = *v;
     if v == 0.0 || (v - v.round()).abs() <= 1e-9 * v.abs().max(1.0) {
         return format!("{:.0}", v.round() + 0.0);

@@ -5,7 +5,8 @@
 //! workspace for every draw (no heap traffic per iteration), and treats the model's domain
 //! (v_D above every fitted level, n > 2, X0 > 0) as a rejected step rather than a NaN. It is the
 //! textbook damped Gauss–Newton iteration with Marquardt's diagonal scaling and the gain-ratio
-//! update of the damping (Nielsen 1999 / Madsen–Nielsen–Tingleff lecture notes, from memory); its results
+//! update of the damping (H. B. Nielsen 1999; K. Madsen, H. B. Nielsen and O. Tingleff,
+//! "Methods for non-linear least squares problems", DTU 2004 — both from memory); its results
 //! are checked against `scipy.optimize.least_squares` in the tests.
 //!
 //! Residuals are whitened: r = W (e − f(θ)), with W = L⁻¹ from the Cholesky factor of the data
