@@ -75,6 +75,18 @@ pub struct Recommended {
     pub de_cm1: Option<f64>,
     /// `"monte-carlo"` (16–84 % half-width) or `"covariance"`.
     pub sigma_stat_source: Option<String>,
+    /// Lower end of the stated interval for D0, cm⁻¹ (never below the observed sum).
+    #[serde(default)]
+    pub d0_low_cm1: Option<f64>,
+    /// Upper end of the stated interval for D0, cm⁻¹ (the interval may be asymmetric).
+    #[serde(default)]
+    pub d0_high_cm1: Option<f64>,
+    /// Smallest number of bound levels consistent with the interval of v_D.
+    #[serde(default)]
+    pub n_bound_min: Option<u64>,
+    /// Largest number of bound levels consistent with the interval of v_D.
+    #[serde(default)]
+    pub n_bound_max: Option<u64>,
     /// Methods whose D0 make up σ_model.
     pub spread_methods: Vec<String>,
     /// One-line reason.
@@ -197,6 +209,10 @@ pub fn assess(
             sigma_model_cm1: None,
             de_cm1: None,
             sigma_stat_source: None,
+            d0_low_cm1: None,
+            d0_high_cm1: None,
+            n_bound_min: None,
+            n_bound_max: None,
             spread_methods: vec![],
             reason: "no method gives a defensible dissociation limit for these data (see each estimate's reason)".into(),
         },
@@ -236,6 +252,10 @@ pub fn assess(
                 sigma_model_cm1: sigma_model,
                 de_cm1: c.de,
                 sigma_stat_source: source,
+                d0_low_cm1: None,
+                d0_high_cm1: None,
+                n_bound_min: None,
+                n_bound_max: None,
                 spread_methods: spread.iter().map(|&i| cands[i].method.clone()).collect(),
                 reason,
             }
