@@ -115,8 +115,15 @@ export class Results {
         el('p', { class: 'big', id: 'd0-line' },
           'D0 = ', el('strong', { id: 'd0-value' }, d0),
           stat ? ` ± ${stat} (stat)` : ' (stat. σ not estimable)',
-          model ? ` ± ${model} (model)` : ' (model σ: only one defensible method)',
+          model ? ` ± ${model} (model)` : '',
           ` ${label}`),
+        r.d0_low_cm1 !== null && r.d0_low_cm1 !== undefined
+          ? el('p', { id: 'd0-interval' }, `Interval: ${this.energy(r.d0_low_cm1, r.sigma_stat_cm1, u)[0]} to ${this.energy(r.d0_high_cm1, r.sigma_stat_cm1, u)[0]} ${label}`,
+            el('span', { class: 'estimate-note', title: 'Holds every estimate the data support, each with twice its statistical uncertainty, and at least the extrapolated part of D0 on either side; it never reaches below the observed sum of spacings.' }, ' (what the data allow)'),
+            r.n_bound_min !== null && r.n_bound_min !== undefined
+              ? ` · bound levels: ${r.n_bound_min === r.n_bound_max ? r.n_bound_min : `${r.n_bound_min} to ${r.n_bound_max}`}`
+              : '')
+          : '',
         el('p', {}, `De = D0 + G(0) = ${this.pm(r.de_cm1, null, u)} ${label}`,
           ` · method: ${report.estimates.find((e) => e.method === r.method)?.label ?? r.method}`,
           r.spread_methods?.length > 1 ? ` · model spread over ${r.spread_methods.length} methods` : ''),

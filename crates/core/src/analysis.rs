@@ -21,7 +21,7 @@ use crate::extrapolate::near_dissociation::{self as nd, LbFit, LbOutcome, LbVari
 use crate::extrapolate::polynomial::{self as poly, PolyMethod};
 use crate::extrapolate::{Context, Limit, Lin, LinearEstimator, Nominal, Redraw};
 use crate::montecarlo::{self, McResult};
-use crate::recommend::{self, Candidate, Family};
+use crate::recommend::{self, Candidate, Evidence, Family, FitEvidence};
 use crate::report::*;
 use crate::settings::{AnalysisSettings, SigmaScaling};
 use crate::sorting::sort_by_key;
@@ -340,8 +340,11 @@ struct Work {
     curve: Option<Curve>,
     level_curve: Option<Curve>,
     lb_line: Option<(f64, f64, f64, f64)>, // (n, x0, v_d, first level v)
-    /// Why the estimate is shown but kept out of the recommendation, beyond the usual rules.
-    veto: Option<String>,
+    /// The estimate's own fit (χ², dof, convergence) as evidence for the recommendation.
+    own_fit: Option<FitEvidence>,
+    /// Fitted n (n-free fits) and fitted C_n (fits with C_n free and μ known).
+    n_fitted: Option<f64>,
+    cn_fitted: Option<f64>,
     /// χ²_ν of the estimate's own fit (the polynomial it extrapolates, or its near-dissociation
     /// fit), which sets its σ scaling; `None` without a fit of its own (the observed sum).
     own_chi2r: Option<f64>,
@@ -349,12 +352,6 @@ struct Work {
     /// near-dissociation fits), so the estimate-wide factor is not applied to them again.
     prescaled: bool,
 }
-
-/// Largest long-range exponent a free-n near-dissociation fit may return and still be kept in
-/// the recommendation. Long-range forces of neutral and charged atoms go as n = 1 … 10
-/// (ion pair 1; dispersion 6, 8, 10); a fit running beyond is a sign that the levels do not
-/// determine n (domain.md §1.5; the cut-off is a choice of ours, common practice, no source).
-pub const N_FREE_PLAUSIBLE_MAX: f64 = 12.0;
 
 fn vs(x: &Lin, cov: Option<&DMatrix<f64>>) -> ValueSigma {
     ValueSigma::new(x.value, cov.map(|c| x.sigma(c)))
@@ -544,7 +541,9 @@ fn run(
             curve: None,
             level_curve: None,
             lb_line: None,
-            veto: None,
+            own_fit: None,
+            n_fitted: None,
+            cn_fitted: None,
             own_chi2r: None,
             prescaled: true,
         });
@@ -571,7 +570,9 @@ fn run(
                     curve: None,
                     level_curve: None,
                     lb_line: None,
-                    veto: None,
+                    own_fit: None,
+                    n_fitted: None,
+                    cn_fitted: None,
                     own_chi2r: None,
                     prescaled: false,
                 };
@@ -592,7 +593,9 @@ fn run(
                         curve: None,
                         level_curve: None,
                         lb_line: None,
-                        veto: None,
+                        own_fit: None,
+                        n_fitted: None,
+                        cn_fitted: None,
                         own_chi2r: None,
                         prescaled: false,
                     };
@@ -641,7 +644,13 @@ fn run(
                 }),
                 level_curve: None,
                 lb_line: None,
-                veto: None,
+                own_fit: Some(FitEvidence {
+                    chi2: fit.lsq.chi2,
+                    dof: fit.lsq.dof(),
+                    converged: true,
+                }),
+                n_fitted: None,
+                cn_fitted: None,
                 own_chi2r: fit.chi2_reduced(),
                 prescaled: false,
             }
@@ -747,7 +756,9 @@ fn run(
                 curve: None,
                 level_curve: None,
                 lb_line: None,
-                veto: None,
+                own_fit: None,
+                n_fitted: None,
+                cn_fitted: None,
                 own_chi2r: None,
                 prescaled: false,
             });
@@ -773,7 +784,9 @@ fn run(
                 curve: None,
                 level_curve: None,
                 lb_line: None,
-                veto: None,
+                own_fit: None,
+                n_fitted: None,
+                cn_fitted: None,
                 own_chi2r: None,
                 prescaled: false,
             });
@@ -820,7 +833,9 @@ fn run(
                     curve: None,
                     level_curve: None,
                     lb_line: None,
-                    veto: None,
+                    own_fit: None,
+                    n_fitted: None,
+                    cn_fitted: None,
                     own_chi2r: None,
                     prescaled: false,
                 });
@@ -895,6 +910,11 @@ fn run(
                         - nd::model_value(dv, vdv, x0v, nv, x - 0.5)
                 });
                 let lpoints = sample(x_first, vdv, 101, |v| nd::model_value(dv, vdv, x0v, nv, v));
+                let cn_fitted = details
+                    .cn_cm1_an
+                    .as_ref()
+                    .filter(|_| !cn_fixed)
+                    .map(|c| c.value);
                 works.push(Work {
                     method,
                     label: label.clone(),
@@ -918,11 +938,13 @@ fn run(
                         v_d: Some(vdv),
                     }),
                     lb_line: Some((nv, x0v, vdv, x_first)),
-                    veto: (n_fitted && nv > N_FREE_PLAUSIBLE_MAX).then(|| {
-                        format!(
-                            "the fitted n = {nv:.1} lies outside the range of long-range exponents of real molecules (n ≤ {N_FREE_PLAUSIBLE_MAX:.0}): these levels do not determine n"
-                        )
+                    own_fit: Some(FitEvidence {
+                        chi2: f.chi2,
+                        dof: f.dof,
+                        converged: f.termination.converged(),
                     }),
+                    n_fitted: n_fitted.then_some(nv),
+                    cn_fitted,
                     own_chi2r,
                     prescaled: true,
                 });
@@ -1054,38 +1076,58 @@ fn run(
             Nominal::Limit(l) => Some(scaled(&l.d0, *r)),
             _ => None,
         });
+    // With σ estimated from the selected fit's scatter, every fit's χ² is judged against that
+    // estimate.
+    let chi2_unit = if source == SigmaSource::EstimatedFromScatter && factor2 > 0.0 {
+        factor2
+    } else {
+        1.0
+    };
     let cands: Vec<Candidate> = works
         .iter()
         .zip(&lin_rel)
         .map(|(w, r)| {
-            let (d0, de, ext) = match &w.nominal {
+            let (d0, de, ext, v_d) = match &w.nominal {
                 Nominal::Limit(l) => (
                     Some(scaled(&l.d0, *r)),
                     Some(l.de.value),
                     Some(ctx.extrapolated_fraction(l.d0.value)),
+                    l.v_d
+                        .as_ref()
+                        .map(|v| (v.value, cov_opt.map(|c| v.sigma(c) * r))),
                 ),
-                _ => (None, None, None),
+                _ => (None, None, None, None),
             };
             Candidate {
                 method: w.method.into(),
+                label: w.label.clone(),
                 family: w.family,
                 sigma_cov: d0.as_ref().and_then(|d| cov_opt.map(|c| d.sigma(c))),
                 sigma_mc: w.mc.as_ref().and_then(|m| m.d0.half_width()),
                 d0,
                 de,
+                v_d,
                 extrapolated_fraction: ext,
-                veto: w.veto.clone(),
+                fit: w.own_fit.map(|f| FitEvidence {
+                    chi2: f.chi2 / chi2_unit,
+                    ..f
+                }),
+                n_fitted: w.n_fitted,
+                cn_fitted: w.cn_fitted,
             }
         })
         .collect();
-    let assessment = recommend::assess(
-        &cands,
-        cov_opt,
-        settings.near_dissociation_coverage,
-        settings.lb_n,
-        k_sel,
-        observed.as_ref(),
-    );
+    let (top_curvature, spacing_ratio) = view.as_ref().map_or((None, None), spacing_evidence);
+    let evidence = Evidence {
+        observed,
+        top_curvature,
+        spacing_ratio,
+        v_top,
+        cn_theory: settings.lb_cn_cm1_an,
+        lb_n: settings.lb_n,
+        selected_order: k_sel,
+    };
+    let assessment = recommend::assess(&cands, cov_opt, &evidence);
     warnings.extend(assessment.warnings.iter().cloned());
 
     // Estimates out.
@@ -1486,6 +1528,36 @@ fn run(
         methods: None,
         session: None,
     })
+}
+
+/// What the observed levels say on their own about the approach to the limit: the curvature of
+/// the top spacings (third difference of the top four levels, when they are consecutive) and the
+/// top spacing over the largest spacing between consecutive levels.
+fn spacing_evidence(w: &LevelView) -> (Option<Lin>, Option<f64>) {
+    let m = w.v.len();
+    let level = |i: usize| Lin {
+        value: w.e[i],
+        grad: w.map.row(i).transpose(),
+    };
+    let consecutive = |i: usize| w.v[i + 1] - w.v[i] == 1.0;
+    let curvature = (m >= 4 && (m - 4..m - 1).all(consecutive)).then(|| {
+        let (a, b, c, d) = (level(m - 1), level(m - 2), level(m - 3), level(m - 4));
+        let three_b = b.grad_scaled(3.0);
+        let three_c = c.grad_scaled(3.0);
+        let value = a.value - 3.0 * b.value + 3.0 * c.value - d.value;
+        Lin {
+            value,
+            grad: &a.grad - &three_b.grad + &three_c.grad - &d.grad,
+        }
+    });
+    let gaps: Vec<f64> = (0..m.saturating_sub(1))
+        .filter(|&i| consecutive(i))
+        .map(|i| w.e[i + 1] - w.e[i])
+        .collect();
+    let largest = gaps.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    let ratio = (m >= 2 && consecutive(m - 2) && largest > 0.0)
+        .then(|| (w.e[m - 1] - w.e[m - 2]) / largest);
+    (curvature, ratio)
 }
 
 /// Be (and σ when estimable) from B_v = Be − αe(v+½) by unweighted least squares.

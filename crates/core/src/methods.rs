@@ -78,16 +78,26 @@ fn single_state(r: &Report, refs: &mut Refs, who: &str) -> String {
     if r.settings.mc_samples > 0 {
         s.push_str(&format!(
             "Statistical uncertainties were propagated from the data covariance to first order and \
-             by a Monte Carlo of {} redraws (seed {}) refitting every model; the model uncertainty is \
-             half the spread of the defensible estimates. ",
+             by a Monte Carlo of {} redraws (seed {}) refitting every model. ",
             r.settings.mc_samples, r.settings.seed
         ));
     } else {
         s.push_str(
             "Statistical uncertainties were propagated from the data covariance to first order (no \
-             Monte Carlo); the model uncertainty is half the spread of the defensible estimates. ",
+             Monte Carlo). ",
         );
     }
+    s.push_str(&format!(
+        "An estimate entered the recommendation when its own fit converged and described its data \
+         (χ² probability at least 0.001), its parameters were physical and its D0 was not below the \
+         observed sum; the near-dissociation fits were preferred when the top observed spacing was at \
+         most a quarter of the largest, the polynomial extrapolations otherwise. The model \
+         uncertainty is half the range of the admitted estimates and at least half the extrapolated \
+         part of D0, after the bound LeRoy and Bernstein {} give for their extrapolation; the stated \
+         interval holds every admitted estimate with twice its statistical uncertainty and never \
+         reaches below the observed sum. ",
+        refs.cite(LEROY_BERNSTEIN)
+    ));
     s.push_str(match (r.input.sigma_source, r.uncertainty.policy) {
         (crate::report::SigmaSource::EstimatedFromScatter, _) => {
             "No data σ were given; they were estimated from the scatter about the selected fit. "

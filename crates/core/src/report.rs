@@ -17,7 +17,7 @@ use crate::settings::{AnalysisSettings, SigmaScaling};
 /// Name of the document format.
 pub const REPORT_FORMAT: &str = "rungs-analysis";
 /// Version of the document format; bumped on any incompatible change of field names or meaning.
-pub const REPORT_FORMAT_VERSION: u32 = 1;
+pub const REPORT_FORMAT_VERSION: u32 = 2;
 
 /// A value with its standard uncertainty (null when not estimable).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -738,10 +738,27 @@ pub fn render_text(r: &Report) -> String {
                 rec.sigma_stat_source.as_deref().unwrap_or("—"),
                 num(rec.sigma_model_cm1, 3)
             );
+            if let (Some(lo), Some(hi)) = (rec.d0_low_cm1, rec.d0_high_cm1) {
+                let _ = writeln!(
+                    s,
+                    "  interval for D0: {lo:.3} … {hi:.3} cm⁻¹ (every admitted estimate with 2σ; never below the observed sum)"
+                );
+            }
             if let Some(de) = rec.de_cm1 {
                 let _ = writeln!(s, "  De = D0 + G(0) = {de:.3} cm⁻¹");
             }
-            let _ = writeln!(s, "  model spread over: {}", rec.spread_methods.join(", "));
+            if let (Some(v), Some(lo), Some(hi)) = (rec.v_d, rec.v_d_low, rec.v_d_high) {
+                let count = match (rec.n_bound_min, rec.n_bound_max) {
+                    (Some(a), Some(b)) if a == b => format!("{a}"),
+                    (Some(a), Some(b)) => format!("{a} to {b}"),
+                    _ => "—".into(),
+                };
+                let _ = writeln!(
+                    s,
+                    "  v_D = {v:.3} (interval {lo:.3} … {hi:.3}); bound levels: {count}"
+                );
+            }
+            let _ = writeln!(s, "  admitted estimates: {}", rec.spread_methods.join(", "));
         }
         _ => {
             let _ = writeln!(s, "  none");

@@ -105,8 +105,8 @@ pub struct AnalysisSettings {
     /// multiple of the observed v-range above the highest observed level.
     #[serde(default = "default_curved_max_extrapolation")]
     pub curved_max_extrapolation: f64,
-    /// Fraction of the well the levels must reach (by the near-dissociation estimate) for the
-    /// near-dissociation regime: LeRoy–Bernstein preferred, polynomial extrapolations set aside.
+    /// No longer used: read from older documents only. The recommendation now judges the
+    /// approach to the limit from the observed spacings (see `recommend`).
     #[serde(default = "default_near_dissociation_coverage")]
     pub near_dissociation_coverage: f64,
     /// |studentized residual| above which a point is flagged as a possible outlier.

@@ -345,7 +345,8 @@ fn pure_tail_recovers_limit_and_cn() {
 
 /// SOURCE: LJ(12,6) levels (De 800 cm⁻¹, re 3.6 Å, μ 16 u, SYNTHETIC) by a dense sinc-DVR with
 /// scipy (oracle script; grid-converged to < 1e-6 cm⁻¹). The near-dissociation fit of the top
-/// levels must give D0 within 0.05 % of the true D0; it must agree with scipy.optimize.least_squares
+/// levels must give D0 within 0.05 % of the true D0, the stated interval and bound-level range
+/// must hold the true values; it must agree with scipy.optimize.least_squares
 /// on the same top-8 subset (1e-7 relative); and linear Birge–Sponer from the lowest 5 and 10
 /// levels must lie below the true D0 (domain.md §1.5 bias, common practice) and match the numpy
 /// computation of the same estimator (1e-9 relative).
@@ -355,16 +356,35 @@ fn lennard_jones_levels() {
     let levels = levels_of(&fx["levels"]);
     let true_d0 = f(&fx["true"]["d0_cm1"]);
     let r = analyze_levels(&levels, None, fx["mu_u"].as_f64(), &quick()).expect("LJ");
-    assert_eq!(
-        r.recommended.method.as_deref(),
-        Some("leroy-bernstein"),
-        "{}",
+    // The spacings shrink toward the limit, so a near-dissociation fit is recommended (which
+    // variant is admitted depends on how well each describes these precise levels).
+    let method = r.recommended.method.as_deref().unwrap_or("");
+    assert!(
+        method.starts_with("leroy-bernstein"),
+        "{method}: {}",
         r.recommended.reason
     );
     let d0 = r.recommended.d0_cm1.expect("D0");
     assert!(
         (d0 - true_d0).abs() / true_d0 < 5e-4,
         "LB D0 {d0} vs true {true_d0}"
+    );
+    let (lo, hi) = (
+        r.recommended.d0_low_cm1.expect("low"),
+        r.recommended.d0_high_cm1.expect("high"),
+    );
+    assert!(
+        lo <= true_d0 && true_d0 <= hi,
+        "true {true_d0} outside [{lo}, {hi}]"
+    );
+    let n_true = fx["true"]["levels_in_box"].as_u64().expect("count");
+    let (n_lo, n_hi) = (
+        r.recommended.n_bound_min.expect("n min"),
+        r.recommended.n_bound_max.expect("n max"),
+    );
+    assert!(
+        n_lo <= n_true && n_true <= n_hi,
+        "{n_true} bound levels outside {n_lo}…{n_hi}"
     );
     let lb = est(&r, "leroy-bernstein");
     let det = lb.leroy_bernstein.as_ref().expect("details");
@@ -796,7 +816,7 @@ fn json_contract_fields() {
     .expect("r");
     let j: Value = serde_json::from_str(&r.to_json().expect("json")).expect("parse");
     assert_eq!(j["format"], "rungs-analysis");
-    assert_eq!(j["format_version"], 1);
+    assert_eq!(j["format_version"], 2);
     for k in ["v", "energy_cm1", "sigma_cm1"] {
         assert!(j["levels"][0].get(k).is_some(), "levels.{k}");
     }

@@ -15,7 +15,7 @@ use crate::settings::AnalysisSettings;
 /// Name of the band-analysis document format.
 pub const BAND_REPORT_FORMAT: &str = "rungs-band-analysis";
 /// Version of the band-analysis document format.
-pub const BAND_REPORT_FORMAT_VERSION: u32 = 1;
+pub const BAND_REPORT_FORMAT_VERSION: u32 = 2;
 
 /// One isotopologue of the data (or a predicted one).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
