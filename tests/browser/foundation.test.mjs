@@ -38,6 +38,12 @@ test('page loads the wasm module, shows the analysed synthetic demo, stays on it
   const d0 = await page.textContent('#d0-value');
   assert.match(d0, /^\d{3,5}(\.\d+)?$/, `D0 shown as a number, got ${d0}`);
   assert.match(await page.textContent('#d0-line'), /\(stat\)/);
+  // The stated interval is shown and holds the demo's true D0, known from its generator
+  // (SOURCE: scripts/make_demo.py, header of qz2-levels.csv: true D0 = 4385.101 cm-1, SYNTHETIC).
+  const interval = await page.textContent('#d0-interval');
+  const m = /Interval: ([\d.]+) to ([\d.]+)/.exec(interval);
+  assert.ok(m, `interval shown, got ${interval}`);
+  assert.ok(Number(m[1]) <= 4385.101 && 4385.101 <= Number(m[2]), `true D0 inside ${m[1]} … ${m[2]}`);
   assert.ok((await page.$$('#estimates tbody tr')).length >= 4, 'every method is listed');
 
   // The figure is drawn (a blank canvas would be all white).
