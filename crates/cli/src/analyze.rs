@@ -208,17 +208,17 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
     {
         return fail(message);
     }
-    match args.format {
-        Format::Text => print!("{}", report.render_text()),
+    let text = match args.format {
+        Format::Text => report.render_text(),
         Format::Json => match report.to_json() {
-            Ok(json) => println!("{json}"),
+            Ok(json) => json + "\n",
             Err(e) => {
                 eprintln!("rungs analyze: {e}");
                 return ExitCode::from(1);
             }
         },
-    }
-    ExitCode::SUCCESS
+    };
+    crate::output::emit(&text).map_or_else(|code| code, |()| ExitCode::SUCCESS)
 }
 
 /// Writes every figure of `analysis` as `DIR/<id>.svg`.

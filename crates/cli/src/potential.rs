@@ -21,10 +21,7 @@ pub enum Format {
 /// Print a command's output, or its error with exit code 2.
 pub fn finish(result: Result<String, String>) -> ExitCode {
     match result {
-        Ok(text) => {
-            print!("{text}");
-            ExitCode::SUCCESS
-        }
+        Ok(text) => crate::output::emit(&text).map_or_else(|code| code, |()| ExitCode::SUCCESS),
         Err(message) => {
             eprintln!("rungs: {message}");
             ExitCode::from(2)
