@@ -6,7 +6,7 @@
 use std::process::ExitCode;
 
 use clap::{Args, ValueEnum};
-use rungs_core::potential::{DiatomicConstants, OuterWall, potential_from_constants};
+use rungs_core::potential::{DiatomicConstants, MAX_V_MAX, OuterWall, potential_from_constants};
 use serde_json::json;
 
 /// Output format of `potential` and `levels`.
@@ -60,7 +60,7 @@ pub struct PotentialArgs {
     #[arg(allow_hyphen_values = true, long = "mu")]
     pub mu: f64,
     /// Highest v for the turning points (default: the last v where G′ is still ≥ 10 % of ωe).
-    #[arg(long = "v-max")]
+    #[arg(long = "v-max", value_parser = clap::value_parser!(u32).range(0..=i64::from(MAX_V_MAX)))]
     pub v_max: Option<u32>,
     /// Dissociation limit above the minimum, cm⁻¹, for the outer wall of the RKR curve.
     #[arg(allow_hyphen_values = true, long = "limit")]
