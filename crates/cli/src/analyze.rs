@@ -39,10 +39,15 @@ pub struct AnalyzeArgs {
     #[arg(long, value_name = "S")]
     pub seed: Option<u64>,
     /// Long-range exponent n of the near-dissociation (LeRoy–Bernstein) fit.
-    #[arg(long, value_name = "N")]
+    #[arg(allow_hyphen_values = true, long, value_name = "N")]
     pub n: Option<f64>,
     /// Reduced mass in u.
-    #[arg(long, value_name = "MU", conflicts_with = "masses")]
+    #[arg(
+        allow_hyphen_values = true,
+        long,
+        value_name = "MU",
+        conflicts_with = "masses"
+    )]
     pub mu: Option<f64>,
     /// The two atoms as nuclide labels, e.g. `1H,35Cl` (masses from AME 2020).
     #[arg(long, value_name = "A,B")]
@@ -68,16 +73,26 @@ pub struct AnalyzeArgs {
     pub reference: Option<String>,
     /// Bands: excitation energy (cm⁻¹) of the upper state's atomic asymptote above the lower
     /// state's, for D0″ = T00 + D0′ − E_atom.
-    #[arg(long, value_name = "E")]
+    #[arg(allow_hyphen_values = true, long, value_name = "E")]
     pub atomic_excitation: Option<f64>,
     /// Bands: upper-state rotational constants `Be[,αe]` in cm⁻¹ (with --b-lower: heads → origins).
-    #[arg(long, value_name = "BE[,ALPHA]", requires = "b_lower")]
+    #[arg(
+        allow_hyphen_values = true,
+        long,
+        value_name = "BE[,ALPHA]",
+        requires = "b_lower"
+    )]
     pub b_upper: Option<String>,
     /// Bands: lower-state rotational constants `Be[,αe]` in cm⁻¹.
-    #[arg(long, value_name = "BE[,ALPHA]", requires = "b_upper")]
+    #[arg(
+        allow_hyphen_values = true,
+        long,
+        value_name = "BE[,ALPHA]",
+        requires = "b_upper"
+    )]
     pub b_lower: Option<String>,
     /// Bands: σ (cm⁻¹) added to heads used as origins without rotational constants.
-    #[arg(long, value_name = "S")]
+    #[arg(allow_hyphen_values = true, long, value_name = "S")]
     pub head_sigma: Option<f64>,
     /// Bands: force the order of the upper state's G′(v).
     #[arg(long, value_name = "K")]
@@ -208,17 +223,17 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
     {
         return fail(message);
     }
-    match args.format {
-        Format::Text => print!("{}", report.render_text()),
+    let text = match args.format {
+        Format::Text => report.render_text(),
         Format::Json => match report.to_json() {
-            Ok(json) => println!("{json}"),
+            Ok(json) => json + "\n",
             Err(e) => {
                 eprintln!("rungs analyze: {e}");
                 return ExitCode::from(1);
             }
         },
-    }
-    ExitCode::SUCCESS
+    };
+    crate::output::emit(&text).map_or_else(|code| code, |()| ExitCode::SUCCESS)
 }
 
 /// Writes every figure of `analysis` as `DIR/<id>.svg`.

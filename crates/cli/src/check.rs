@@ -12,6 +12,15 @@ use clap::Args;
 use rungs_core::intake::{BandPositions, DataSet, Provenance, Role, RowStatus, Severity};
 
 use crate::input::{ReadArgs, open_session};
+use crate::output::emit;
+
+/// `println!` into the report text (writing to a `String` cannot fail).
+macro_rules! outln {
+    ($out:expr, $($arg:tt)*) => {{
+        $out.push_str(&format!($($arg)*));
+        $out.push('\n');
+    }};
+}
 
 /// Most excluded rows listed before the rest are counted.
 const MAX_LISTED: usize = 50;
@@ -42,31 +51,32 @@ fn provenance(p: Provenance) -> &'static str {
     }
 }
 
-fn print_report(name: &str, d: &DataSet) {
-    println!("rungs check: {name}");
+fn print_report(out: &mut String, name: &str, d: &DataSet) {
+    outln!(out, "rungs check: {name}");
     let kind_how = match d.kind_from {
         Provenance::Override => "chosen",
         _ => "detected from the columns",
     };
-    println!("  kind:      {} ({kind_how})", d.kind.name());
+    outln!(out, "  kind:      {} ({kind_how})", d.kind.name());
     if let (Some(p), Some(from)) = (d.band_positions, d.band_positions_from) {
         let what = match p {
             BandPositions::Origins => "band origins",
             BandPositions::Heads => "band heads",
         };
-        println!("  positions: {what} ({})", provenance(from));
+        outln!(out, "  positions: {what} ({})", provenance(from));
     }
     let header = match (d.header_row, d.header_in_comment) {
         (Some(l), false) => format!("header on line {l}"),
         (Some(l), true) => format!("column names from the comment on line {l}"),
         (None, _) => "no header".to_string(),
     };
-    println!(
+    outln!(
+        out,
         "  table:     {}-separated, {header}, {} data rows",
         d.delimiter.name(),
         d.rows.len()
     );
-    println!("  columns:");
+    outln!(out, "  columns:");
     let width = d
         .columns
         .iter()
@@ -93,27 +103,33 @@ fn print_report(name: &str, d: &DataSet) {
                 line.push_str(&format!("; {note}"));
             }
         }
-        println!("{line}");
+        outln!(out, "{line}");
     }
     let usable = d.usable_count();
     let excluded: Vec<_> = d.excluded_rows().collect();
-    println!("  rows:      {usable} usable, {} excluded", excluded.len());
+    outln!(
+        out,
+        "  rows:      {usable} usable, {} excluded",
+        excluded.len()
+    );
     for r in excluded.iter().take(MAX_LISTED) {
         match r.status() {
-            RowStatus::ExcludedByUser => println!(
+            RowStatus::ExcludedByUser => outln!(
+                out,
                 "    row {}: excluded by the user: {}",
                 r.line,
                 r.user_reason.as_deref().unwrap_or("")
             ),
             _ => {
                 for p in &r.problems {
-                    println!("    {}", d.locate(r, p));
+                    outln!(out, "    {}", d.locate(r, p));
                 }
             }
         }
     }
     if excluded.len() > MAX_LISTED {
-        println!(
+        outln!(
+            out,
             "    … and {} more excluded rows",
             excluded.len() - MAX_LISTED
         );
@@ -134,16 +150,20 @@ fn print_report(name: &str, d: &DataSet) {
         })
         .collect();
     if !notes.is_empty() {
-        println!("  notes:");
+        outln!(out, "  notes:");
         for n in notes {
             let tag = match n.severity {
                 Severity::Info => "info",
                 Severity::Warning => "warning",
             };
-            println!("    {tag}: {}", n.message);
+            outln!(out, "    {tag}: {}", n.message);
         }
     }
-    println!("  constants: CODATA {}", rungs_core::constants::CODATA_YEAR);
+    outln!(
+        out,
+        "  constants: CODATA {}",
+        rungs_core::constants::CODATA_YEAR
+    );
 }
 
 /// Runs `rungs check`: exit 0 when the table is usable, 2 when it is not (or cannot be read).
@@ -157,22 +177,27 @@ pub fn run(args: &CheckArgs) -> ExitCode {
         Ok(d) => d,
         Err(e) => return bad_argument(format!("{name}: {e}")),
     };
-    print_report(&name, &data);
+    let mut out = String::new();
+    print_report(&mut out, &name, &data);
     if encoding != "UTF-8" {
-        println!("  encoding:  {encoding}");
+        outln!(out, "  encoding:  {encoding}");
     }
     match data.check_usable() {
         Ok(()) => {
-            println!(
+            outln!(
+                out,
                 "  usable:    yes — {} {} (the simplest analysis needs {})",
                 data.usable_count(),
                 data.kind.name(),
                 data.kind.min_usable()
             );
-            ExitCode::SUCCESS
+            emit(&out).map_or_else(|code| code, |()| ExitCode::SUCCESS)
         }
         Err(e) => {
-            println!("  usable:    no");
+            outln!(out, "  usable:    no");
+            if let Err(code) = emit(&out) {
+                return code;
+            }
             eprintln!("rungs check: {name}: not usable: {e}");
             ExitCode::from(2)
         }

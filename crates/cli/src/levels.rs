@@ -43,7 +43,7 @@ pub struct LevelsArgs {
     /// optional header line).
     pub file: PathBuf,
     /// Reduced mass μ, u.
-    #[arg(long = "mu")]
+    #[arg(allow_hyphen_values = true, long = "mu")]
     pub mu: f64,
     /// Rotational quantum number J.
     #[arg(long = "j", default_value_t = 0)]
@@ -55,16 +55,16 @@ pub struct LevelsArgs {
     #[arg(long = "v-unit", value_enum, default_value_t = VUnit::Cm1)]
     pub v_unit: VUnit,
     /// Dissociation limit on the file's energy scale (converted like V), for the outer wall.
-    #[arg(long = "limit")]
+    #[arg(allow_hyphen_values = true, long = "limit")]
     pub limit: Option<f64>,
     /// Long-range power n of the outer tail (with --limit; default: exponential approach).
     #[arg(long = "tail-n", requires = "limit")]
     pub tail_n: Option<u32>,
     /// Highest energy of interest, cm⁻¹ above the minimum (needed when the curve has no limit).
-    #[arg(long = "energy-max")]
+    #[arg(allow_hyphen_values = true, long = "energy-max")]
     pub energy_max: Option<f64>,
     /// Target accuracy of the level energies, cm⁻¹.
-    #[arg(long = "tolerance", default_value_t = 1e-3)]
+    #[arg(allow_hyphen_values = true, long = "tolerance", default_value_t = 1e-3)]
     pub tolerance: f64,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]

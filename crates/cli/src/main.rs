@@ -13,6 +13,7 @@ mod analyze;
 mod check;
 mod input;
 mod levels;
+mod output;
 mod potential;
 
 /// Vibrational analysis of diatomic molecules: constants, numbering, dissociation limits.
@@ -45,12 +46,12 @@ fn main() -> ExitCode {
     let cli = Cli::parse();
     match cli.command {
         Command::Version => {
-            println!(
-                "rungs {} (constants: CODATA {})",
+            let text = format!(
+                "rungs {} (constants: CODATA {})\n",
                 rungs_core::VERSION,
                 rungs_core::constants::CODATA_YEAR
             );
-            ExitCode::SUCCESS
+            output::emit(&text).map_or_else(|code| code, |()| ExitCode::SUCCESS)
         }
         Command::Check(args) => check::run(&args),
         Command::Analyze(args) => analyze::run(&args),

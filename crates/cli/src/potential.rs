@@ -6,7 +6,7 @@
 use std::process::ExitCode;
 
 use clap::{Args, ValueEnum};
-use rungs_core::potential::{DiatomicConstants, OuterWall, potential_from_constants};
+use rungs_core::potential::{DiatomicConstants, MAX_V_MAX, OuterWall, potential_from_constants};
 use serde_json::json;
 
 /// Output format of `potential` and `levels`.
@@ -21,10 +21,7 @@ pub enum Format {
 /// Print a command's output, or its error with exit code 2.
 pub fn finish(result: Result<String, String>) -> ExitCode {
     match result {
-        Ok(text) => {
-            print!("{text}");
-            ExitCode::SUCCESS
-        }
+        Ok(text) => crate::output::emit(&text).map_or_else(|code| code, |()| ExitCode::SUCCESS),
         Err(message) => {
             eprintln!("rungs: {message}");
             ExitCode::from(2)
@@ -36,43 +33,43 @@ pub fn finish(result: Result<String, String>) -> ExitCode {
 #[derive(Debug, Args)]
 pub struct PotentialArgs {
     /// ωe, cm⁻¹.
-    #[arg(long = "we")]
+    #[arg(allow_hyphen_values = true, long = "we")]
     pub we: f64,
     /// ωexe, cm⁻¹.
-    #[arg(long = "wexe")]
+    #[arg(allow_hyphen_values = true, long = "wexe")]
     pub wexe: f64,
     /// ωeye, cm⁻¹.
-    #[arg(long = "weye", default_value_t = 0.0)]
+    #[arg(allow_hyphen_values = true, long = "weye", default_value_t = 0.0)]
     pub weye: f64,
     /// ωeze, cm⁻¹.
-    #[arg(long = "weze", default_value_t = 0.0)]
+    #[arg(allow_hyphen_values = true, long = "weze", default_value_t = 0.0)]
     pub weze: f64,
     /// Y00, cm⁻¹ (shifts v_min away from −½).
-    #[arg(long = "y00", default_value_t = 0.0)]
+    #[arg(allow_hyphen_values = true, long = "y00", default_value_t = 0.0)]
     pub y00: f64,
     /// Be, cm⁻¹.
-    #[arg(long = "be")]
+    #[arg(allow_hyphen_values = true, long = "be")]
     pub be: f64,
     /// αe, cm⁻¹.
-    #[arg(long = "alphae")]
+    #[arg(allow_hyphen_values = true, long = "alphae")]
     pub alphae: f64,
     /// γe, cm⁻¹.
-    #[arg(long = "gammae", default_value_t = 0.0)]
+    #[arg(allow_hyphen_values = true, long = "gammae", default_value_t = 0.0)]
     pub gammae: f64,
     /// Reduced mass μ, u.
-    #[arg(long = "mu")]
+    #[arg(allow_hyphen_values = true, long = "mu")]
     pub mu: f64,
     /// Highest v for the turning points (default: the last v where G′ is still ≥ 10 % of ωe).
-    #[arg(long = "v-max")]
+    #[arg(long = "v-max", value_parser = clap::value_parser!(u32).range(0..=i64::from(MAX_V_MAX)))]
     pub v_max: Option<u32>,
     /// Dissociation limit above the minimum, cm⁻¹, for the outer wall of the RKR curve.
-    #[arg(long = "limit")]
+    #[arg(allow_hyphen_values = true, long = "limit")]
     pub limit: Option<f64>,
     /// Long-range power n of the outer tail (with --limit; default: exponential approach).
     #[arg(long = "tail-n", requires = "limit")]
     pub tail_n: Option<u32>,
     /// C_n in cm⁻¹ Åⁿ (with --tail-n).
-    #[arg(long = "cn", requires = "tail_n")]
+    #[arg(allow_hyphen_values = true, long = "cn", requires = "tail_n")]
     pub cn: Option<f64>,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]

@@ -148,3 +148,31 @@ fn levels_reports_a_missing_file() {
     assert_eq!(code, 2);
     assert!(err.contains("/nonexistent/curve.csv"), "{err}");
 }
+
+/// `--v-max 1000000000` (gigabytes of levels) is refused before anything is allocated, naming
+/// the option and its allowed range, for anharmonic and harmonic constants (common practice,
+/// no source).
+#[test]
+fn a_huge_v_max_is_refused_with_its_range() {
+    for wexe in ["10", "0"] {
+        let (code, _, err) = rungs(&[
+            "potential",
+            "--we",
+            "1000",
+            "--wexe",
+            wexe,
+            "--be",
+            "1",
+            "--alphae",
+            "0.01",
+            "--mu",
+            "10",
+            "--v-max",
+            "1000000000",
+        ]);
+        assert_eq!(code, 2, "{err}");
+        assert!(err.contains("--v-max"), "{err}");
+        assert!(err.contains("0..=1000"), "{err}");
+        assert!(!err.contains("memory allocation"), "{err}");
+    }
+}

@@ -73,7 +73,8 @@ enum C<'a> {
 impl Sheet {
     fn new(header: &[&str]) -> Result<Sheet> {
         let mut w = csv::Writer::from_writer(Vec::new());
-        w.write_record(header).map_err(csv_err)?;
+        w.write_record(header.iter().map(|h| text_cell(h)))
+            .map_err(csv_err)?;
         Ok(Sheet { w })
     }
 
@@ -81,8 +82,8 @@ impl Sheet {
         let text: Vec<String> = cells
             .iter()
             .map(|c| match c {
-                C::S(s) => (*s).to_string(),
-                C::O(s) => s.clone(),
+                C::S(s) => text_cell(s),
+                C::O(s) => text_cell(s),
                 C::F(Some(x)) if x.is_finite() => format!("{x}"),
                 C::F(_) => String::new(),
                 C::U(Some(n)) => n.to_string(),
@@ -98,6 +99,20 @@ impl Sheet {
             .into_inner()
             .map_err(|e| Error::numerical("CSV export", e.to_string()))?;
         String::from_utf8(bytes).map_err(|e| Error::numerical("CSV export", e.to_string()))
+    }
+}
+
+/// A text cell as written: text a spreadsheet would run as a formula (it begins with `=`, `+`,
+/// `-`, `@`, a tab or a carriage return) gets a leading `'`, which spreadsheets take as "this is
+/// text" (SOURCE: OWASP, "CSV Injection", from memory). A cell that is a finite number (`-0.5`,
+/// `+3e2`) is left as it is, so numbers stay numbers.
+fn text_cell(s: &str) -> String {
+    let risky = s.starts_with(['=', '+', '-', '@', '\t', '\r']);
+    let number = s.parse::<f64>().is_ok_and(f64::is_finite);
+    if risky && !number {
+        format!("'{s}")
+    } else {
+        s.to_string()
     }
 }
 
@@ -513,6 +528,72 @@ mod tests {
     use super::*;
     use crate::examples::example;
     use crate::pipeline::analyze_session;
+
+    /// Text that a spreadsheet would run as a formula is written with a leading `'`; numbers,
+    /// negative ones included, are written as they are (SOURCE: OWASP, "CSV Injection", from
+    /// memory).
+    #[test]
+    fn formula_like_text_cells_are_neutralised() {
+        let mut header = vec!["=HYPERLINK(\"x\")", "plain"];
+        header.resize(11, "c");
+        let mut sheet = Sheet::new(&header).unwrap();
+        sheet
+            .row(&[
+                C::S("=1+2"),
+                C::S("+cmd"),
+                C::S("-2+3"),
+                C::S("@SUM(A1)"),
+                C::S("\tx"),
+                C::S("\rx"),
+                C::O("-0.5".into()),
+                C::S("+3e2"),
+                C::F(Some(-0.5)),
+                C::S("a=b"),
+                C::S("-inf"),
+            ])
+            .unwrap();
+        let text = sheet.finish().unwrap();
+        let mut rd = csv::ReaderBuilder::new()
+            .has_headers(false)
+            .from_reader(text.as_bytes());
+        let rows: Vec<Vec<String>> = rd
+            .records()
+            .map(|r| r.unwrap().iter().map(str::to_string).collect())
+            .collect();
+        assert_eq!(rows[0][..2], ["'=HYPERLINK(\"x\")", "plain"]);
+        let want = [
+            "'=1+2",
+            "'+cmd",
+            "'-2+3",
+            "'@SUM(A1)",
+            "'\tx",
+            "'\rx",
+            "-0.5",
+            "+3e2",
+            "-0.5",
+            "a=b",
+            "'-inf",
+        ];
+        assert_eq!(rows[1], want);
+    }
+
+    /// A user's exclusion reason that looks like a formula reaches the rows table neutralised.
+    #[test]
+    fn an_exclusion_reason_formula_is_neutralised_in_the_rows_table() {
+        let mut session = example("qz2-levels").unwrap().session();
+        session.settings.mc_samples = 0;
+        let third = session.data().unwrap().rows[2].line;
+        session.intake.exclude(third, "=cmd|' /C calc'!A0");
+        let data = session.data().unwrap();
+        let analysis = analyze_session(&session, &mut |_, _| {}).unwrap();
+        let text = table_csv(&analysis, Some(&data), "rows").unwrap();
+        let mut rd = csv::Reader::from_reader(text.as_bytes());
+        let records: Vec<_> = rd.records().map(|r| r.unwrap()).collect();
+        let row = records.iter().find(|r| r[0] == third.to_string()).unwrap();
+        let reason = &row[row.len() - 1];
+        assert!(reason.contains("=cmd"), "{reason}");
+        assert!(records.iter().flatten().all(|c| !c.starts_with('=')));
+    }
 
     /// Every table of both demo kinds writes valid CSV that the `csv` crate reads back with a
     /// constant number of fields, and the rows table lists every input row (common practice, no

@@ -35,7 +35,7 @@ pub use compare::{Alignment, LoopCheck, LoopRow, Verdict, compare_levels, rkr_lo
 pub use fcf::{FcfSettings, FcfTable, franck_condon_factors};
 pub use pointwise::{EnergyUnit, LengthUnit, PointwisePotential, parse_two_column};
 pub use rkr::{
-    ConstantsLevel, ConstantsPotential, DiatomicConstants, RkrCurve, RkrInput, RkrPoint,
+    ConstantsLevel, ConstantsPotential, DiatomicConstants, MAX_V_MAX, RkrCurve, RkrInput, RkrPoint,
     RkrPotential, RotationInput, potential_from_constants, rkr_turning_points,
 };
 pub use solver::{BoundLevel, GridInfo, LevelSet, SolverSettings, Wavefunction, solve_levels};

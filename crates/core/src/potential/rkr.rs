@@ -599,6 +599,10 @@ pub struct ConstantsPotential {
     pub warnings: Vec<String>,
 }
 
+/// Highest v accepted for the turning points of [`potential_from_constants`]: far more levels
+/// than any bound state holds, and small enough that every table of v stays a few hundred kB.
+pub const MAX_V_MAX: u32 = 1000;
+
 /// RKR turning points for v = 0 … `v_max` (integers), Morse turning points at the same energies,
 /// and the levels of the RKR curve (walls extended, outer wall by `outer`) solved back, so the
 /// user sees how well the curve returns the G(v) it came from.
@@ -610,6 +614,13 @@ pub fn potential_from_constants(
 ) -> Result<ConstantsPotential> {
     use super::analytic::re_from_be;
     use super::solver::{SolverSettings, solve_levels};
+    // Checked before anything is allocated for the levels.
+    if v_max > MAX_V_MAX {
+        return Err(Error::parameter(
+            "v_max",
+            format!("{v_max} is more than {MAX_V_MAX}: give a highest v from 0 to {MAX_V_MAX}"),
+        ));
+    }
     let input = constants.rkr_input(mu_u);
     let vs: Vec<f64> = (0..=v_max).map(f64::from).collect();
     let curve = rkr_turning_points(&input, &vs)?;
@@ -678,4 +689,31 @@ pub fn potential_from_constants(
         levels,
         warnings,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A typed v_max far beyond any bound state (10⁹, which would need gigabytes) is refused
+    /// with the allowed range before anything is allocated, for an anharmonic and a harmonic
+    /// set of constants (common practice, no source).
+    #[test]
+    fn a_huge_v_max_is_refused_before_allocating() {
+        for wexe_cm1 in [10.0, 0.0] {
+            let constants = DiatomicConstants {
+                we_cm1: 1000.0,
+                wexe_cm1,
+                be_cm1: 1.0,
+                alphae_cm1: 0.01,
+                ..Default::default()
+            };
+            let e = potential_from_constants(&constants, 10.0, 1_000_000_000, OuterWall::Automatic);
+            let Err(Error::Parameter { name, message }) = e else {
+                panic!("expected a parameter error");
+            };
+            assert_eq!(name, "v_max");
+            assert!(message.contains("0 to 1000"), "{message}");
+        }
+    }
 }

@@ -179,6 +179,9 @@ pub struct LevelSet {
     pub grid: GridInfo,
     /// Whether every level's error estimate is within the tolerance.
     pub converged: bool,
+    /// Which work limit stopped the solver early, if one did (the levels found are kept).
+    #[serde(default)]
+    pub limit_reached: Option<String>,
     /// Plain-language notes (grid limits, box effects, unconverged levels).
     pub notes: Vec<String>,
 }
@@ -258,6 +261,29 @@ struct Map {
 
 /// Λ of the map's tail floor (decay exponent over which weakly bound tails stay resolved).
 const TAIL_RESOLUTION: f64 = 12.0;
+
+/// At most this many levels are solved in one call; above it the lowest ones are kept and a
+/// note says so. Far more than any bound state of a real molecule holds.
+pub const MAX_LEVELS: usize = 1000;
+
+/// At most this many points on any grid (the first one and every halving), checked before the
+/// grid is allocated.
+pub const MAX_GRID_POINTS: usize = 1_000_000;
+
+/// At most this many level × grid-point products over all solves of one call (the work);
+/// refinement stops, with a note, before it would exceed this.
+pub const MAX_WORK: usize = 400_000_000;
+
+/// The error of a grid that would exceed [`MAX_GRID_POINTS`].
+fn too_many_points() -> Error {
+    Error::numerical(
+        "level solver",
+        format!(
+            "the grid would need more than {MAX_GRID_POINTS} points (the limit): the reduced \
+             mass is too large for this curve, or narrow r_min … r_max"
+        ),
+    )
+}
 
 impl Map {
     fn k_energy(&self, problem: &Problem<'_>, r: f64) -> f64 {
@@ -385,11 +411,8 @@ impl Grid {
         let mut x = r_a;
         while x < r_b {
             x = map.advance(problem, x, h, substeps);
-            if !x.is_finite() || r.len() > 4_000_000 {
-                return Err(Error::numerical(
-                    "level solver",
-                    "the grid would need more than 4 million points; narrow r_min … r_max",
-                ));
+            if !x.is_finite() || r.len() >= MAX_GRID_POINTS {
+                return Err(too_many_points());
             }
             r.push(x);
         }
@@ -449,6 +472,9 @@ impl Grid {
     fn refine(&self, problem: &Problem<'_>, map: &Map) -> Result<Self> {
         let n = self.len();
         let m = 2 * n - 1;
+        if m > MAX_GRID_POINTS {
+            return Err(too_many_points());
+        }
         let (mut r, mut vj, mut jac, mut schw) = (
             Vec::with_capacity(m),
             Vec::with_capacity(m),
@@ -916,9 +942,14 @@ pub(crate) fn plan(problem: &Problem<'_>, s: &SolverSettings, allow_map: bool) -
             let rt = bisect(|r| problem.vj(r) - ceiling, lo, re);
             let mut r = rt;
             let mut acc = 0.0;
+            let mut steps = 0usize;
             // On coarse grids a steep wall gives T > 0.9 near r_a; the sweeps cap T there
             // (ψ is negligible), keeping the count monotone.
             while acc < s.tail_decay && r - h0 > 0.5 * h0 {
+                steps += 1;
+                if steps > MAX_GRID_POINTS {
+                    return Err(too_many_points());
+                }
                 let vv = problem.vj(r - h0);
                 r -= h0;
                 acc += h0 * problem.kappa(vv - ceiling);
@@ -958,7 +989,12 @@ pub(crate) fn plan(problem: &Problem<'_>, s: &SolverSettings, allow_map: bool) -
             };
             let mut r = rt;
             let mut acc = 0.0;
+            let mut steps = 0usize;
             while acc < s.tail_decay && r < cap {
+                steps += 1;
+                if steps > MAX_GRID_POINTS {
+                    return Err(too_many_points());
+                }
                 let step = h0
                     .max(1e-2 * r)
                     .min(0.5 / problem.kappa(problem.vj(r) - e_out).max(1e-12));
@@ -1218,6 +1254,26 @@ pub fn solve_levels(
     if let Some(mx) = settings.max_levels {
         n_levels = n_levels.min(mx);
     }
+    // Bounded work: at most MAX_LEVELS levels, and few enough that the first solves on the
+    // three starting grids (3.5 × the first grid's points each) stay within MAX_WORK / 4.
+    let by_work = MAX_WORK / 4 / (4 * grids[1].len()).max(1);
+    let cap = MAX_LEVELS.min(by_work);
+    let mut limit_reached = None;
+    if n_levels > cap {
+        let why = if cap == MAX_LEVELS {
+            format!("the limit of {MAX_LEVELS} levels")
+        } else {
+            format!("the work limit ({MAX_WORK} level × grid-point steps)")
+        };
+        let note = format!(
+            "stopped at {why}: the lowest {cap} of {n_levels} levels are given; lower the energy \
+             ceiling to see the rest"
+        );
+        plan.notes.push(note.clone());
+        limit_reached = Some(note);
+        n_levels = cap;
+    }
+    let mut work = 4 * n_levels * grids[1].len();
     let all: Vec<usize> = (0..n_levels).collect();
     let acc = Accuracy {
         decay,
@@ -1289,6 +1345,17 @@ pub fn solve_levels(
             break;
         }
         let g = grids.len() - 1;
+        let next_len = 2 * grids[g].len() - 1;
+        if next_len > MAX_GRID_POINTS || work + todo.len() * next_len > MAX_WORK {
+            let note = format!(
+                "refinement stopped at the limit of {MAX_GRID_POINTS} grid points or \
+                 {MAX_WORK} level × grid-point steps; see the error estimates"
+            );
+            plan.notes.push(note.clone());
+            limit_reached.get_or_insert(note);
+            break;
+        }
+        work += todo.len() * next_len;
         let next = grids[g].refine(&problem, &plan.map)?;
         grids.push(next);
         let guesses: Vec<f64> = todo
@@ -1363,6 +1430,7 @@ pub fn solve_levels(
             halvings,
         },
         converged,
+        limit_reached,
         notes: plan.notes,
     })
 }
@@ -1492,6 +1560,44 @@ pub(crate) fn common_grid_states(
 mod tests {
     use super::*;
     use crate::potential::{Harmonic, Morse};
+
+    /// A well holding about 25 000 levels below the ceiling (ωe = 4 cm⁻¹, E_max = 10⁵ cm⁻¹)
+    /// stops early at a stated limit instead of running unbounded; the levels it keeps are
+    /// right. SOURCE: closed form G(v) = ωe(v+½) for the harmonic oscillator (textbook).
+    #[test]
+    fn a_huge_level_count_stops_at_a_stated_limit() {
+        let h = Harmonic::from_we(4.0, 1e6, 1.5).unwrap();
+        let s = SolverSettings {
+            energy_max_cm1: Some(1e5),
+            wavefunction_points: 0,
+            ..Default::default()
+        };
+        let set = solve_levels(&h, 1e6, &s).unwrap();
+        let why = set.limit_reached.as_deref().unwrap();
+        assert!(why.contains("limit"), "{why}");
+        assert!(set.notes.iter().any(|n| n == why));
+        assert!(!set.levels.is_empty() && set.levels.len() <= MAX_LEVELS);
+        for l in set.levels.iter().take(5) {
+            let g = 4.0 * (f64::from(l.v) + 0.5);
+            assert!(
+                (l.energy_cm1 - g).abs() < 1e-3,
+                "v={}: {}",
+                l.v,
+                l.energy_cm1 - g
+            );
+        }
+    }
+
+    /// An absurd reduced mass (10³⁰⁰ u) is refused at the grid-size limit, quickly, with a
+    /// message naming the limit (common practice, no source).
+    #[test]
+    fn an_absurd_mass_is_refused_at_the_grid_limit() {
+        let m = Morse::new(25_000.0, 2.0, 2.0).unwrap();
+        let e = solve_levels(&m, 1e300, &SolverSettings::default()).unwrap_err();
+        let text = e.to_string();
+        assert!(text.contains(&MAX_GRID_POINTS.to_string()), "{text}");
+        assert!(text.contains("limit"), "{text}");
+    }
 
     /// SOURCE: closed form G(v) = ωe(v+½) (domain.md §2.3). Tolerance 1e-4 cm⁻¹ (issue 6).
     #[test]
