@@ -168,4 +168,20 @@ mod tests {
         assert!(fit_profile(&[0.0, 1.0, 2.0], &[0.0, f64::NAN, 2.0], &cov, 6.0, 0).is_none());
         assert!(fit_profile(&[0.0, 1.0], &[0.0, 1.0], &DMatrix::identity(2, 2), 6.0, 0).is_none());
     }
+
+    #[test]
+    fn one_term_numerator_recovered() {
+        // SOURCE: levels built from the model's own closed form G = D − X0 x^{2n/(n−2)}(1 + p1 x),
+        // x = v_D − v (outer form of the near-dissociation expansion, common practice, no source).
+        let (n, d, v_d, x0, p1) = (6.0, 3000.0, 12.7, 2.5, 0.02);
+        let v: Vec<f64> = (0..10).map(|i| i as f64).collect();
+        let e: Vec<f64> = v
+            .iter()
+            .map(|&vi| d - x0 * (v_d - vi).powf(3.0) * (1.0 + p1 * (v_d - vi)))
+            .collect();
+        let f = fit_profile(&v, &e, &DMatrix::identity(10, 10), n, 1).expect("fit");
+        assert!((f.d_cm1 - d).abs() < 1e-5 * d, "D {}", f.d_cm1);
+        assert!((f.v_d - v_d).abs() < 1e-5, "v_D {}", f.v_d);
+        assert!((f.p[0] - p1).abs() < 1e-5, "p1 {}", f.p[0]);
+    }
 }
