@@ -11,6 +11,7 @@
 //! - [`lm`]: the small Levenberg–Marquardt solver under the near-dissociation fits.
 
 pub mod lm;
+pub mod nde;
 pub mod near_dissociation;
 pub mod polynomial;
 
