@@ -1,17 +1,38 @@
-//! Near-dissociation expansion (NDE), first stage: the outer form with no denominator (M = 0),
-//! G(v) = D − X0·x^{2n/(n−2)}·(1 + p1 x + … + pL x^L), x = v_D − v, fitted to all levels.
+//! Near-dissociation expansion (NDE): the outer form with a polynomial correction (Padé
+//! numerator, no denominator), fitted to all levels:
 //!
-//! For fixed v_D the model is linear in (D, X0, X0·p_i), so the fit is a profile over v_D:
-//! a weighted linear least-squares solve for each v_D, a grid scan over v_D above the top level,
-//! then golden-section refinement of the profiled χ²(v_D) (common practice, no source).
-//! Not yet done: denominators (M > 0), the exponential form, fixed X0, order choice, gradients.
+//! G(v) = D − X0·x^{2n/(n−2)}·(1 + p̃1 s + … + p̃L s^L),  x = v_D − v,  s = x / S,
+//!
+//! with S = (v_top − v_bottom + 1) fixed per data set so that the correction coefficients p̃ are of
+//! order one (the published coefficients are p_i = p̃_i / S^i). The leading term is the
+//! LeRoy–Bernstein limiting law, so the form is exact at the limit and the correction describes
+//! the levels deeper in the well (LeRoy & Lam, Chem. Phys. Lett. 71, 544 (1980); Tromp & LeRoy,
+//! J. Mol. Spectrosc. 109, 352 (1985), from memory).
+//!
+//! - n is fixed by the physics of the asymptote; X0 is fitted, or fixed from a theoretical C_n.
+//! - For fixed v_D the model is linear in (D, X0, X0·p̃_i), so the fit is a profile over v_D: a
+//!   weighted linear solve for each v_D, a log-spaced grid above the top level, golden-section
+//!   refinement (common practice, no source).
+//! - The correction order L is chosen by AICc over 0 … [`L_MAX`] among the acceptable fits: a fit
+//!   is rejected, with the reason, when X0 ≤ 0, when its levels do not rise all the way from the
+//!   lowest level to the limit, or when its spacings grow again between the top level and the
+//!   limit (no attractive tail allows either).
+//! - D and v_D carry gradients with respect to the data from the Gauss–Newton sensitivity at the
+//!   optimum, Δθ = (JᵀΣ⁻¹J)⁻¹JᵀΣ⁻¹ ΔE; [`NdeEstimator`] refits a Monte Carlo draw at the
+//!   chosen order.
+//!
+//! Not done: Padé denominators (M > 0) and the exponential form.
 
 use nalgebra::{DMatrix, DVector};
 
 use super::lm::Whitener;
-use super::near_dissociation::exponent;
+use super::near_dissociation::{LbInput, exponent};
+use super::{Context, DrawValue, Lin, Redraw};
 
-/// One profiled fit of the M = 0 outer form.
+/// Highest correction order tried.
+pub const L_MAX: usize = 8;
+
+/// One profiled fit of the outer form.
 #[derive(Debug, Clone, PartialEq)]
 pub struct NdeProfileFit {
     /// Dissociation limit D on the data's energy scale, cm⁻¹.
@@ -20,81 +41,171 @@ pub struct NdeProfileFit {
     pub v_d: f64,
     /// X0, cm⁻¹.
     pub x0_cm1: f64,
-    /// Numerator coefficients p1..pL.
+    /// Numerator coefficients p1..pL (of x = v_D − v, not of the scaled s).
     pub p: Vec<f64>,
     /// Weighted χ².
     pub chi2: f64,
-    /// Degrees of freedom m − (L + 3).
+    /// Degrees of freedom m − (number of parameters).
     pub dof: usize,
 }
 
-/// Linear solve at fixed v_D: returns (θ, χ²) with θ = (D, X0, X0·p1, …).
+/// The design of the linear part at fixed v_D.
+#[derive(Debug, Clone)]
+struct Design {
+    /// Correction order.
+    l: usize,
+    /// Scale S of s = x / S.
+    scale: f64,
+    /// X0 held fixed (from a theoretical C_n), or fitted.
+    x0_fixed: Option<f64>,
+}
+
+impl Design {
+    /// Number of linear parameters: D, (X0), X0·p̃_1 … X0·p̃_L.
+    fn k(&self) -> usize {
+        self.l + if self.x0_fixed.is_some() { 1 } else { 2 }
+    }
+
+    /// Row of the linear design at level v and the fixed-part offset (what is moved to the
+    /// right-hand side when X0 is fixed). `None` when v is not below v_D.
+    fn row(&self, n: f64, v_d: f64, v: f64, row: &mut [f64]) -> Option<f64> {
+        let x = v_d - v;
+        if x.is_nan() || x <= 0.0 {
+            return None;
+        }
+        let base = x.powf(exponent(n));
+        let s = x / self.scale;
+        row[0] = 1.0;
+        let (first, offset) = match self.x0_fixed {
+            Some(x0) => (1, x0 * base),
+            None => {
+                row[1] = -base;
+                (2, 0.0)
+            }
+        };
+        let mut sp = s;
+        for j in 0..self.l {
+            row[first + j] = -base * sp;
+            sp *= s;
+        }
+        Some(offset)
+    }
+
+    /// X0 and the scaled coefficients p̃ from the linear solution θ.
+    fn unpack(&self, theta: &DVector<f64>) -> (f64, Vec<f64>) {
+        let (x0, first) = match self.x0_fixed {
+            Some(x0) => (x0, 1),
+            None => (theta[1], 2),
+        };
+        (x0, (0..self.l).map(|j| theta[first + j] / x0).collect())
+    }
+}
+
+/// Weighted linear solve at fixed v_D: (θ, χ²).
 fn solve_at(
     v: &[f64],
     e: &[f64],
     w: &Whitener,
     n: f64,
-    l: usize,
+    d: &Design,
     v_d: f64,
 ) -> Option<(DVector<f64>, f64)> {
     let m = v.len();
-    let k = l + 2;
+    let k = d.k();
     let mut a = DMatrix::zeros(m, k);
+    let mut rhs = DVector::zeros(m);
+    let mut row = vec![0.0; k];
     for (i, &vi) in v.iter().enumerate() {
-        let x = v_d - vi;
-        if x.is_nan() || x <= 0.0 {
-            return None;
+        let off = d.row(n, v_d, vi, &mut row)?;
+        for j in 0..k {
+            a[(i, j)] = row[j];
         }
-        let base = x.powf(exponent(n));
-
-        a[(i, 0)] = 1.0;
-        for j in 0..=l {
-            a[(i, j + 1)] = -base * x.powi(j as i32);
+        rhs[i] = e[i] + off;
+    }
+    let (aw, yw) = match w {
+        Whitener::Diagonal(wd) => {
+            for (i, wi) in wd.iter().enumerate() {
+                a.row_mut(i).scale_mut(*wi);
+                rhs[i] *= wi;
+            }
+            (a, rhs)
         }
-    }
-    let mut aw = DMatrix::zeros(m, k);
-    let mut buf = vec![0.0; m];
-    for j in 0..k {
-        let colj: Vec<f64> = a.column(j).iter().copied().collect();
-        w.apply(&colj, &mut buf);
-        aw.set_column(j, &DVector::from_column_slice(&buf));
-    }
-    let mut yw = vec![0.0; m];
-    w.apply(e, &mut yw);
-    let yw = DVector::from_vec(yw);
-    let svd = aw.clone().svd(true, true);
-    let theta = svd.solve(&yw, 1e-13).ok()?;
+        Whitener::Full(l) => (l * a, l * rhs),
+    };
+    let theta = lsq_solve(&aw, &yw)?;
     let r = &aw * &theta - &yw;
     let chi2 = r.norm_squared();
     chi2.is_finite().then_some((theta, chi2))
 }
 
-/// Fit the M = 0 outer form of numerator degree `l` by the profile over v_D.
-/// `None` when the data are too few, not finite, or the profile has no interior minimum.
-pub fn fit_profile(
-    v: &[f64],
-    e: &[f64],
-    cov: &DMatrix<f64>,
-    n: f64,
-    l: usize,
-) -> Option<NdeProfileFit> {
-    let m = v.len();
-    if m < l + 3
-        || e.len() != m
-        || v.iter().chain(e).any(|x| !x.is_finite())
-        || n.is_nan()
-        || n <= 2.0
-    {
-        return None;
+/// Least squares min ‖A θ − y‖: Householder QR when A is well conditioned (the usual case, and
+/// several times cheaper), else the SVD with small singular values cut.
+fn lsq_solve(a: &DMatrix<f64>, y: &DVector<f64>) -> Option<DVector<f64>> {
+    let qr = a.clone().qr();
+    let r = qr.r();
+    let diag: Vec<f64> = r.diagonal().iter().map(|d| d.abs()).collect();
+    let (lo, hi) = diag
+        .iter()
+        .fold((f64::INFINITY, 0.0f64), |(l, h), &d| (l.min(d), h.max(d)));
+    if lo > 1e-10 * hi {
+        let qty = qr.q().transpose() * y;
+        if let Some(t) = r.solve_upper_triangular(&qty) {
+            return Some(t);
+        }
     }
-    let w = Whitener::from_cov(cov)?;
-    let v_top = v.iter().copied().fold(f64::MIN, f64::max);
-    let v_bot = v.iter().copied().fold(f64::MAX, f64::min);
-    let span = (v_top - v_bot).max(1.0);
-    let prof = |vd: f64| solve_at(v, e, &w, n, l, vd).map_or(f64::INFINITY, |s| s.1);
-    // Grid over v_D − v_top on a log scale from 1e-3 to 10 spans.
-    let grid: Vec<f64> = (0..=400)
-        .map(|i| v_top + 1e-3 * (1e4 * span).powf(i as f64 / 400.0))
+    a.clone().svd(true, true).solve(y, 1e-13).ok()
+}
+
+/// Refine a minimum of the profile near `start` by damped Newton steps on central differences,
+/// staying inside (lo, hi); `None` when no step lowers it or a step leaves the bracket.
+fn newton_minimum(prof: &dyn Fn(f64) -> f64, start: f64, lo: f64, hi: f64) -> Option<f64> {
+    let mut x = start;
+    let mut fx = prof(x);
+    for _ in 0..12 {
+        let h = 1e-3 * (x - lo).max(1e-6);
+        let (fp, fm) = (prof(x + h), prof(x - h));
+        let d1 = (fp - fm) / (2.0 * h);
+        let d2 = (fp - 2.0 * fx + fm) / (h * h);
+        if !(d2 > 0.0 && d1.is_finite()) {
+            return None;
+        }
+        let mut step = -d1 / d2;
+        if step.abs() <= 1e-9 * x.abs().max(1.0) {
+            return Some(x + step);
+        }
+        let mut accepted = false;
+        for _ in 0..6 {
+            let xn = x + step;
+            if xn > lo && xn < hi {
+                let fnew = prof(xn);
+                if fnew <= fx {
+                    (x, fx, accepted) = (xn, fnew, true);
+                    break;
+                }
+            }
+            step *= 0.5;
+        }
+        if !accepted {
+            // No lower point along the step: x is the minimum to within the step.
+            return (step.abs() <= 1e-6 * x.abs().max(1.0)).then_some(x);
+        }
+    }
+    None
+}
+
+/// The minimum of the profiled χ²(v_D) over a log grid of v_D − v_top in
+/// [lo_gap, hi_gap], refined by golden section.
+fn profile_minimum(
+    prof: &dyn Fn(f64) -> f64,
+    v_top: f64,
+    lo_gap: f64,
+    hi_gap: f64,
+    points: usize,
+    rel_tol: f64,
+) -> f64 {
+    let ratio = hi_gap / lo_gap;
+    let grid: Vec<f64> = (0..=points)
+        .map(|i| v_top + lo_gap * ratio.powf(i as f64 / points as f64))
         .collect();
     let (ib, _) = grid
         .iter()
@@ -103,33 +214,329 @@ pub fn fit_profile(
         .fold((0, f64::INFINITY), |b, c| if c.1 < b.1 { c } else { b });
     let lo = if ib == 0 { v_top } else { grid[ib - 1] };
     let hi = grid[(ib + 1).min(grid.len() - 1)];
-    let v_d = golden(&prof, lo, hi);
-    let (theta, chi2) = solve_at(v, e, &w, n, l, v_d)?;
-    let x0 = theta[1];
-    let p = (0..l).map(|j| theta[j + 2] / x0).collect();
-    Some(NdeProfileFit {
+    golden(prof, lo, hi, rel_tol)
+}
+
+fn check_input(v: &[f64], e: &[f64], n: f64, k: usize) -> bool {
+    v.len() > k && e.len() == v.len() && !v.iter().chain(e).any(|x| !x.is_finite()) && n > 2.0
+}
+
+/// Fit the outer form of numerator degree `l` (X0 free) by the profile over v_D.
+/// `None` when the data are too few, not finite, or the profile has no interior minimum.
+pub fn fit_profile(
+    v: &[f64],
+    e: &[f64],
+    cov: &DMatrix<f64>,
+    n: f64,
+    l: usize,
+) -> Option<NdeProfileFit> {
+    let design = Design {
+        l,
+        scale: 1.0,
+        x0_fixed: None,
+    };
+    profile_fit(v, e, &Whitener::from_cov(cov)?, n, &design).map(|(f, _)| f)
+}
+
+/// The profile fit for one design: the fit and its linear solution θ.
+fn profile_fit(
+    v: &[f64],
+    e: &[f64],
+    w: &Whitener,
+    n: f64,
+    design: &Design,
+) -> Option<(NdeProfileFit, DVector<f64>)> {
+    let k = design.k();
+    if !check_input(v, e, n, k) {
+        return None;
+    }
+    let v_top = v.iter().copied().fold(f64::MIN, f64::max);
+    let v_bot = v.iter().copied().fold(f64::MAX, f64::min);
+    let span = (v_top - v_bot).max(1.0);
+    let prof = |vd: f64| solve_at(v, e, w, n, design, vd).map_or(f64::INFINITY, |s| s.1);
+    let v_d = profile_minimum(&prof, v_top, 1e-3, 1e1 * span, 240, 1e-13);
+    let (theta, chi2) = solve_at(v, e, w, n, design, v_d)?;
+    let (x0, pt) = design.unpack(&theta);
+    let p = pt
+        .iter()
+        .enumerate()
+        .map(|(j, c)| c / design.scale.powi(j as i32 + 1))
+        .collect();
+    let fit = NdeProfileFit {
         d_cm1: theta[0],
         v_d,
         x0_cm1: x0,
         p,
         chi2,
-        dof: m - (l + 3),
+        dof: v.len() - (k + 1),
+    };
+    Some((fit, theta))
+}
+
+/// Why a fitted expansion is not acceptable, or `None` when it is. With h(x) = D − G =
+/// X0·Σ c_j x^{a+j} (c_0 = 1, c_j = p_j, a = 2n/(n−2)): the levels must rise with v everywhere
+/// from the lowest level to the limit (h′ > 0), and between the top level and the limit the
+/// spacings must shrink (h″ > 0), as they do under any attractive long-range tail (common
+/// practice, no source).
+fn unphysical(fit: &NdeProfileFit, n: f64, v_bot: f64, v_top: f64) -> Option<String> {
+    if fit.x0_cm1.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) {
+        return Some("its leading coefficient X0 is not positive".into());
+    }
+    let a = exponent(n);
+    let coef: Vec<f64> = std::iter::once(1.0).chain(fit.p.iter().copied()).collect();
+    let deriv = |x: f64, order: i32| -> f64 {
+        coef.iter()
+            .enumerate()
+            .map(|(j, c)| {
+                let q = a + j as f64;
+                let f = if order == 1 { q } else { q * (q - 1.0) };
+                c * f * x.powf(q - order as f64)
+            })
+            .sum()
+    };
+    let (x_max, x_top) = (fit.v_d - v_bot, fit.v_d - v_top);
+    const STEPS: usize = 400;
+    if (1..=STEPS).any(|i| deriv(x_max * i as f64 / STEPS as f64, 1) <= 0.0) {
+        return Some(
+            "its levels do not rise all the way from the lowest level to the limit".into(),
+        );
+    }
+    if (1..=STEPS).any(|i| deriv(x_top * i as f64 / STEPS as f64, 2) <= 0.0) {
+        return Some("its spacings grow again between the top level and the limit, which no attractive long-range tail allows".into());
+    }
+    None
+}
+
+/// The nominal near-dissociation expansion: the chosen order with gradients.
+#[derive(Debug, Clone)]
+pub struct NdeFit {
+    /// The fit at the chosen order.
+    pub fit: NdeProfileFit,
+    /// D (data scale) with its gradient with respect to the data vector y.
+    pub d: Lin,
+    /// v_D with its gradient.
+    pub v_d: Lin,
+    /// Chosen correction order L.
+    pub order: usize,
+    /// X0 held fixed from a theoretical C_n.
+    pub x0_fixed: bool,
+    /// (L, AICc, why rejected) for every order tried.
+    pub orders: Vec<(usize, Option<f64>, Option<String>)>,
+    /// Scale S of the correction variable.
+    pub scale: f64,
+}
+
+/// AICc = χ² + 2k + 2k(k+1)/(m − k − 1) (Hurvich & Tsai, Biometrika 76, 297 (1989), from memory).
+fn aicc(chi2: f64, k: usize, m: usize) -> Option<f64> {
+    (m > k + 1).then(|| {
+        let kf = k as f64;
+        chi2 + 2.0 * kf + 2.0 * kf * (kf + 1.0) / (m - k - 1) as f64
     })
 }
 
-/// Golden-section minimum of f on [a, b] (Kiefer 1953, from memory).
-fn golden(f: &dyn Fn(f64) -> f64, mut a: f64, mut b: f64) -> f64 {
-    let g = 0.5 * (5f64.sqrt() - 1.0);
-    for _ in 0..200 {
-        let c = b - g * (b - a);
-        let d = a + g * (b - a);
-        if f(c) < f(d) {
-            b = d;
-        } else {
-            a = c;
-        }
-        if (b - a).abs() <= 1e-14 * b.abs().max(1.0) {
+/// Fit orders 0 … [`L_MAX`], choose by AICc among the acceptable fits, and attach gradients.
+/// `Err` with the reason when no order gives an acceptable fit.
+pub fn fit(input: &LbInput, n: f64, x0_fixed: Option<f64>) -> Result<NdeFit, String> {
+    let w = Whitener::from_cov(&input.cov).ok_or("the data covariance is not positive definite")?;
+    let (v, e) = (&input.v, &input.e);
+    let v_top = v.iter().copied().fold(f64::MIN, f64::max);
+    let v_bot = v.iter().copied().fold(f64::MAX, f64::min);
+    let scale = v_top - v_bot + 1.0;
+    let mut orders = Vec::new();
+    let mut best: Option<(f64, usize, NdeProfileFit, DVector<f64>)> = None;
+    for l in 0..=L_MAX {
+        let design = Design { l, scale, x0_fixed };
+        let k = design.k() + 1;
+        if v.len() < k + 2 {
             break;
+        }
+        let Some((f, theta)) = profile_fit(v, e, &w, n, &design) else {
+            orders.push((l, None, Some("no minimum of χ² above the top level".into())));
+            continue;
+        };
+        let a = aicc(f.chi2, k, v.len());
+        let why = unphysical(&f, n, v_bot, v_top).or_else(|| {
+            (f.v_d - v_top >= 0.999 * 1e1 * (v_top - v_bot).max(1.0))
+                .then(|| "its limit runs off to the edge of the search range".into())
+        });
+        if why.is_none()
+            && let Some(a) = a
+            && best.as_ref().is_none_or(|b| a < b.0)
+        {
+            best = Some((a, l, f.clone(), theta));
+        }
+        orders.push((l, a, why));
+    }
+    let Some((_, order, f, theta)) = best else {
+        return Err("no order of the expansion gives a physical fit to these levels".into());
+    };
+    let design = Design {
+        l: order,
+        scale,
+        x0_fixed,
+    };
+    let (d, v_d) = gradients(input, &w, n, &design, &f, &theta)
+        .ok_or("the expansion's parameters are not determined by these levels")?;
+    Ok(NdeFit {
+        fit: f,
+        d,
+        v_d,
+        order,
+        x0_fixed: x0_fixed.is_some(),
+        orders,
+        scale,
+    })
+}
+
+/// D and v_D as linear functions of the data: the Gauss–Newton sensitivity at the optimum.
+fn gradients(
+    input: &LbInput,
+    w: &Whitener,
+    n: f64,
+    design: &Design,
+    f: &NdeProfileFit,
+    theta: &DVector<f64>,
+) -> Option<(Lin, Lin)> {
+    let m = input.v.len();
+    let k = design.k();
+    // Jacobian of the model G(v) with respect to (θ_lin, v_D): the linear columns are the
+    // design row; ∂G/∂v_D from a central difference of the design at fixed θ.
+    let mut jac = DMatrix::zeros(m, k + 1);
+    let mut row = vec![0.0; k];
+    let h = 1e-6 * (f.v_d - input.v.iter().copied().fold(f64::MIN, f64::max)).max(1e-6);
+    let model = |vd: f64, vi: f64, row: &mut [f64]| -> Option<f64> {
+        let off = design.row(n, vd, vi, row)?;
+        Some((0..k).map(|j| row[j] * theta[j]).sum::<f64>() - off)
+    };
+    for (i, &vi) in input.v.iter().enumerate() {
+        design.row(n, f.v_d, vi, &mut row)?;
+        for j in 0..k {
+            jac[(i, j)] = row[j];
+        }
+        let gp = model(f.v_d + h, vi, &mut row)?;
+        let gm = model(f.v_d - h, vi, &mut row)?;
+        jac[(i, k)] = (gp - gm) / (2.0 * h);
+    }
+    // Whitened Jacobian A = W J; sensitivity rows S = (AᵀA)⁻¹ Aᵀ W.
+    let mut aw = DMatrix::zeros(m, k + 1);
+    let mut buf = vec![0.0; m];
+    for j in 0..=k {
+        let col: Vec<f64> = jac.column(j).iter().copied().collect();
+        w.apply(&col, &mut buf);
+        aw.set_column(j, &DVector::from_column_slice(&buf));
+    }
+    let ata_inv = (aw.transpose() * &aw).try_inverse()?;
+    let sens = ata_inv * aw.transpose(); // (k+1) × m, acting on whitened data
+    let wmat = whitener_matrix(w);
+    let s_e = sens * wmat; // (k+1) × m, acting on E
+    let to_y = |r: usize| -> DVector<f64> { input.map.transpose() * s_e.row(r).transpose() };
+    let d = Lin {
+        value: f.d_cm1,
+        grad: to_y(0),
+    };
+    let v_d = Lin {
+        value: f.v_d,
+        grad: to_y(k),
+    };
+    (d.grad.iter().chain(v_d.grad.iter()).all(|g| g.is_finite())).then_some((d, v_d))
+}
+
+/// The whitening operator as a dense matrix.
+fn whitener_matrix(w: &Whitener) -> DMatrix<f64> {
+    match w {
+        Whitener::Diagonal(d) => DMatrix::from_diagonal(&DVector::from_column_slice(d)),
+        Whitener::Full(l) => l.clone(),
+    }
+}
+
+/// Re-runs the expansion on redrawn data at the nominal order, X0 treatment and scale.
+#[derive(Debug, Clone)]
+pub struct NdeEstimator {
+    v: Vec<f64>,
+    map: DMatrix<f64>,
+    w: Whitener,
+    n: f64,
+    design: Design,
+    v_d: f64,
+    e0: Lin,
+    zero_point: Lin,
+    e: Vec<f64>,
+}
+
+impl NdeEstimator {
+    /// Prepare from the nominal fit.
+    pub fn new(
+        input: &LbInput,
+        n: f64,
+        fit: &NdeFit,
+        x0: Option<f64>,
+        ctx: &Context,
+    ) -> Option<Self> {
+        Some(Self {
+            v: input.v.clone(),
+            map: input.map.clone(),
+            w: Whitener::from_cov(&input.cov)?,
+            n,
+            design: Design {
+                l: fit.order,
+                scale: fit.scale,
+                x0_fixed: x0,
+            },
+            v_d: fit.fit.v_d,
+            e0: ctx.e0.clone(),
+            zero_point: ctx.zero_point.clone(),
+            e: vec![0.0; input.v.len()],
+        })
+    }
+}
+
+impl Redraw for NdeEstimator {
+    fn draw(&mut self, y: &[f64], _dy: &[f64], dy_base: &[f64]) -> DrawValue {
+        let yv = DVector::from_column_slice(y);
+        let e = &self.map * yv;
+        self.e.copy_from_slice(e.as_slice());
+        let v_top = self.v.iter().copied().fold(f64::MIN, f64::max);
+        let (v, ee, w, n, design) = (&self.v, &self.e, &self.w, self.n, &self.design);
+        let prof = |vd: f64| solve_at(v, ee, w, n, design, vd).map_or(f64::INFINITY, |s| s.1);
+        // A draw moves v_D by a fraction of its distance to the top level: search a factor 10
+        // either side of the nominal gap; v_D to 1e-10 of itself is far inside any draw's spread.
+        // Newton from the nominal v_D first (a draw moves it little); the grid when that fails.
+        let gap = (self.v_d - v_top).max(1e-3);
+        let vd = newton_minimum(&prof, self.v_d, v_top + 0.1 * gap, v_top + 10.0 * gap)
+            .unwrap_or_else(|| profile_minimum(&prof, v_top, 0.1 * gap, 10.0 * gap, 24, 1e-10));
+        let Some((theta, _)) = solve_at(v, ee, w, n, design, vd) else {
+            return DrawValue::Failed;
+        };
+        let d0 = theta[0] - self.e0.at(dy_base);
+        if !d0.is_finite() || d0 <= 0.0 {
+            return DrawValue::Failed;
+        }
+        DrawValue::Value {
+            d0,
+            de: d0 + self.zero_point.at(dy_base),
+            v_d: vd,
+        }
+    }
+}
+
+/// Golden-section minimum of f on [a, b] to a relative width `rel_tol`, one evaluation of f per
+/// step (Kiefer 1953, from memory).
+fn golden(f: &dyn Fn(f64) -> f64, mut a: f64, mut b: f64, rel_tol: f64) -> f64 {
+    let g = 0.5 * (5f64.sqrt() - 1.0);
+    let (mut c, mut d) = (b - g * (b - a), a + g * (b - a));
+    let (mut fc, mut fd) = (f(c), f(d));
+    for _ in 0..200 {
+        if (b - a).abs() <= rel_tol * b.abs().max(1.0) {
+            break;
+        }
+        if fc < fd {
+            (b, d, fd) = (d, c, fc);
+            c = b - g * (b - a);
+            fc = f(c);
+        } else {
+            (a, c, fc) = (c, d, fd);
+            d = a + g * (b - a);
+            fd = f(d);
         }
     }
     0.5 * (a + b)
