@@ -17,6 +17,7 @@ use nalgebra::{DMatrix, DVector};
 use crate::constants::CODATA_YEAR;
 use crate::data::{Level, Spacing};
 use crate::dunham::{self, DataKind, FitData, PolyFit};
+use crate::extrapolate::nde;
 use crate::extrapolate::near_dissociation::{self as nd, LbFit, LbOutcome, LbVariant};
 use crate::extrapolate::polynomial::{self as poly, PolyMethod};
 use crate::extrapolate::{Context, Limit, Lin, LinearEstimator, Nominal, Redraw};
@@ -506,7 +507,7 @@ fn run(
         ));
     }
     if data.kind == DataKind::Spacings && source == SigmaSource::Given {
-        warnings.push("spacings given directly are treated as independent; spacings that share a level are in fact anticorrelated (domain.md §1.6) — give levels, or the spacings' covariance, when available".into());
+        warnings.push("spacings given directly are treated as independent; spacings that share a level are in fact anticorrelated — give levels, or the spacings' covariance, when available".into());
     }
     let ctx = Context {
         e0: e0.clone(),
@@ -647,6 +648,7 @@ fn run(
                 own_fit: Some(FitEvidence {
                     chi2: fit.lsq.chi2,
                     dof: fit.lsq.dof(),
+                    points: fit.lsq.n_points,
                     converged: true,
                 }),
                 n_fitted: None,
@@ -941,6 +943,7 @@ fn run(
                     own_fit: Some(FitEvidence {
                         chi2: f.chi2,
                         dof: f.dof,
+                        points: input.v.len(),
                         converged: f.termination.converged(),
                     }),
                     n_fitted: n_fitted.then_some(nv),
@@ -951,6 +954,20 @@ fn run(
                 lb_fits.push(Some(*f));
             }
         }
+    }
+    if let Some(w) = &view {
+        let scale_of = |chi2r: f64| rel_of(policy(chi2r));
+        let nde = NdeSetup {
+            view: w,
+            data_cov: &data.cov,
+            n: settings.lb_n,
+            cn_mu: settings.lb_cn_cm1_an.zip(mu_u),
+            e0_x: &e0_x,
+            ctx: &ctx,
+            zero_point: &zero_point,
+            scale_of: &scale_of,
+        };
+        works.extend(nde_works(&nde));
     }
     if let (Some(Some(fixed)), Some(free)) = (
         lb_fits.first(),
@@ -1202,6 +1219,7 @@ fn run(
                     }
                     Family::LinearBs | Family::CurvedBs { .. } => "v_D from dG/dv = 0 of the fitted G(v); D0 = G(v_D) − G(0); σ by the envelope theorem".into(),
                     Family::NearDissociation { .. } => "D0 = D − G(0) with D the asymptote of the near-dissociation fit; σ from its Jacobian".into(),
+                    Family::Expansion => "D0 = D − G(0) with D the asymptote of the near-dissociation expansion fitted to all levels; σ from its Gauss–Newton sensitivity".into(),
                 };
                 if let Some(lb) = &w.lb_line
                     && w.family == (Family::NearDissociation { primary: true })
@@ -1533,6 +1551,136 @@ fn run(
 /// What the observed levels say on their own about the approach to the limit: the curvature of
 /// the top spacings (third difference of the top four levels, when they are consecutive) and the
 /// top spacing over the largest spacing between consecutive levels.
+/// What the near-dissociation expansion needs from the analysis.
+struct NdeSetup<'a> {
+    view: &'a LevelView,
+    data_cov: &'a DMatrix<f64>,
+    n: f64,
+    cn_mu: Option<(f64, f64)>,
+    e0_x: &'a Lin,
+    ctx: &'a Context,
+    zero_point: &'a Lin,
+    /// σ factor of an estimate from its own χ²_ν, in the effective covariance's terms.
+    scale_of: &'a dyn Fn(f64) -> f64,
+}
+
+/// The near-dissociation expansion fitted to all levels: X0 free, and X0 fixed from a given C_n.
+fn nde_works(s: &NdeSetup) -> Vec<Work> {
+    let mut variants: Vec<(&'static str, String, Option<f64>)> = vec![(
+        "near-dissociation-expansion",
+        format!("near-dissociation expansion, n = {}, all levels", s.n),
+        None,
+    )];
+    if let Some((cn, mu)) = s.cn_mu {
+        variants.push((
+            "near-dissociation-expansion-cn-fixed",
+            format!(
+                "near-dissociation expansion, n = {} and C_n = {cn} cm⁻¹Åⁿ fixed, all levels",
+                s.n
+            ),
+            Some(nd::x0_from_cn(s.n, cn, mu)),
+        ));
+    }
+    let Some(input) = nd::top_input(s.view, s.view.v.len(), s.data_cov) else {
+        return Vec::new();
+    };
+    // A limit needs spacings that shrink: per unit of v, the top spacing must be smaller than
+    // the first (levels with constant or growing spacings have no limit in this model).
+    let (v, e) = (&s.view.v, &s.view.e);
+    let m = v.len();
+    let shrinking = m >= 3 && {
+        let first = (e[1] - e[0]) / (v[1] - v[0]);
+        let top = (e[m - 1] - e[m - 2]) / (v[m - 1] - v[m - 2]);
+        top < first
+    };
+    variants
+        .into_iter()
+        .map(|(method, label, x0)| {
+            let family = Family::Expansion;
+            let mut work = Work {
+                method,
+                label: label.clone(),
+                family,
+                order: None,
+                nominal: Nominal::NoLimit(String::new()),
+                bs: None,
+                lb: None,
+                estimator: None,
+                mc: None,
+                curve: None,
+                level_curve: None,
+                lb_line: None,
+                own_fit: None,
+                n_fitted: None,
+                cn_fitted: None,
+                own_chi2r: None,
+                prescaled: true,
+            };
+            if !shrinking {
+                work.nominal = Nominal::NoLimit(
+                    "the spacings do not shrink toward the top, so there is no dissociation limit within this model".into(),
+                );
+                return work;
+            }
+            let f = match nde::fit(&input, s.n, x0) {
+                Ok(f) => f,
+                Err(why) => {
+                    work.nominal = Nominal::NoLimit(why);
+                    return work;
+                }
+            };
+            let own_chi2r = (f.fit.dof > 0).then(|| f.fit.chi2 / f.fit.dof as f64);
+            let rel = (s.scale_of)(own_chi2r.unwrap_or(1.0));
+            let d0 = f.d.grad_scaled(rel).minus(s.e0_x);
+            work.order = Some(f.order);
+            work.own_fit = Some(FitEvidence {
+                chi2: f.fit.chi2,
+                dof: f.fit.dof,
+                points: input.v.len(),
+                converged: true,
+            });
+            work.own_chi2r = own_chi2r;
+            work.nominal = if d0.value > 0.0 {
+                Nominal::Limit(Limit {
+                    de: d0.plus(s.zero_point),
+                    d0,
+                    v_d: Some(f.v_d.grad_scaled(rel)),
+                })
+            } else {
+                Nominal::NoLimit("the expansion's asymptote lies below the energy of v = 0".into())
+            };
+            let ctx_x = Context {
+                e0: s.e0_x.clone(),
+                ..s.ctx.clone()
+            };
+            work.estimator = nde::NdeEstimator::new(&input, s.n, &f, x0, &ctx_x)
+                .map(|e| Box::new(e) as Box<dyn Redraw>);
+            let (d, vd, x0v, p) = (f.fit.d_cm1, f.fit.v_d, f.fit.x0_cm1, f.fit.p.clone());
+            let g = move |v: f64| {
+                let x = vd - v;
+                let corr = 1.0 + p.iter().rev().fold(0.0, |acc, c| (acc + c) * x);
+                d - x0v * x.powf(nd::exponent(s.n)) * corr
+            };
+            let first = input.v[0];
+            work.level_curve = Some(Curve {
+                method: method.into(),
+                label: label.clone(),
+                points: sample(first, vd, 101, &g),
+                v_d: Some(vd),
+            });
+            work.curve = Some(Curve {
+                method: method.into(),
+                label,
+                points: sample(first + 0.5, (vd - 0.5).max(first + 0.5), 101, |x| {
+                    g(x + 0.5) - g(x - 0.5)
+                }),
+                v_d: Some(vd),
+            });
+            work
+        })
+        .collect()
+}
+
 fn spacing_evidence(w: &LevelView) -> (Option<Lin>, Option<f64>) {
     let m = w.v.len();
     let level = |i: usize| Lin {

@@ -23,6 +23,9 @@ pub struct Methods {
 // are standard citations given from memory.
 const BIRGE_SPONER: &str = "R. T. Birge and H. Sponer, Phys. Rev. 28, 259 (1926)"; // from memory
 const LEROY_BERNSTEIN: &str = "R. J. LeRoy and R. B. Bernstein, J. Chem. Phys. 52, 3869 (1970)";
+const NDE_OUTER: &str = "R. J. LeRoy and W. Lam, Chem. Phys. Lett. 71, 544 (1980); J. W. Tromp and \
+                         R. J. LeRoy, J. Mol. Spectrosc. 109, 352 (1985)"; // from memory
+const AICC: &str = "C. M. Hurvich and C.-L. Tsai, Biometrika 76, 297 (1989)"; // from memory
 const DUNHAM: &str = "J. L. Dunham, Phys. Rev. 41, 721 (1932)"; // from memory
 const RKR: &str = "R. Rydberg, Z. Phys. 73, 376 (1931); O. Klein, Z. Phys. 76, 226 (1932); \
                    A. L. G. Rees, Proc. Phys. Soc. 59, 998 (1947)"; // from memory
@@ -68,12 +71,16 @@ fn single_state(r: &Report, refs: &mut Refs, who: &str) -> String {
     );
     s.push_str(&format!(
         "The dissociation limit was extrapolated by the linear and curved Birge–Sponer methods {} and \
-         by the LeRoy–Bernstein near-dissociation expression {} (n = {} fixed{}), beside the observed \
-         sum of spacings as a lower bound. ",
+         by the LeRoy–Bernstein near-dissociation expression {} (n = {} fixed{}) fitted to the top \
+         levels, and by a near-dissociation expansion of the outer form {} fitted to all levels, \
+         its correction order chosen by AICc {}, beside the observed sum of spacings as a lower \
+         bound. ",
         refs.cite(BIRGE_SPONER),
         refs.cite(LEROY_BERNSTEIN),
         r.settings.lb_n,
-        if r.settings.lb_fit_n_free { ", and n free" } else { "" }
+        if r.settings.lb_fit_n_free { ", and n free" } else { "" },
+        refs.cite(NDE_OUTER),
+        refs.cite(AICC)
     ));
     if r.settings.mc_samples > 0 {
         s.push_str(&format!(
@@ -90,9 +97,12 @@ fn single_state(r: &Report, refs: &mut Refs, who: &str) -> String {
     s.push_str(&format!(
         "An estimate entered the recommendation when its own fit converged and described its data \
          (χ² probability at least 0.001), its parameters were physical and its D0 was not below the \
-         observed sum; the near-dissociation fits were preferred when the top observed spacing was at \
-         most a quarter of the largest, the polynomial extrapolations otherwise. The model \
-         uncertainty is half the range of the admitted estimates and at least half the extrapolated \
+         observed sum. When the expansion was admitted, the model of all levels with the lowest AICc \
+         (expansion or polynomial) was preferred; otherwise the near-dissociation fits were \
+         preferred when the top observed spacing was at most a quarter of the largest, the \
+         polynomial extrapolations otherwise. The model \
+         uncertainty is half the range of the admitted estimates (of every estimate with physical \
+         parameters when no fit described the data) and at least half the extrapolated \
          part of D0, after the bound LeRoy and Bernstein {} give for their extrapolation; the stated \
          interval holds every admitted estimate with twice its statistical uncertainty and never \
          reaches below the observed sum. ",

@@ -15,13 +15,19 @@
 //!    - its curvature agrees with the data: a near-dissociation form has spacings that curve
 //!      upward toward the limit, so it is not admitted while the top observed spacings still
 //!      curve downward by more than 2σ.
-//! 2. **Preferred value.** When the observed spacings have shrunk to at most [`NEAR_RATIO`] of
-//!    their largest value (the levels approach the limit, judged from the data alone), the
-//!    admitted near-dissociation estimate is preferred; otherwise the admitted polynomial
-//!    extrapolation (curved when the order selection supports curvature, else linear). Without
-//!    an admitted estimate of the preferred family, the admitted estimate with the smallest
-//!    χ²_ν of its own fit is used. The recommended D0 is never below the observed sum.
-//! 3. **σ_model** is half the range of D0 over the admitted estimates, and never less than half
+//! 2. **Preferred value.** When a near-dissociation expansion fitted to all levels is admitted,
+//!    the models of all levels (the expansions and the polynomials in v, fitted to the same data
+//!    with the same σ) are compared by their AICc and the lowest is preferred (Hurvich & Tsai,
+//!    Biometrika 76, 297 (1989), from memory). Otherwise: when the observed spacings have shrunk
+//!    to at most [`NEAR_RATIO`] of their largest value (the levels approach the limit, judged
+//!    from the data alone), the admitted near-dissociation estimate is preferred; else the
+//!    admitted polynomial extrapolation (curved when the order selection supports curvature,
+//!    else linear). Without an admitted estimate of the preferred family, the admitted estimate
+//!    with the smallest χ²_ν of its own fit is used. The recommended D0 is never below the
+//!    observed sum.
+//! 3. **σ_model** is half the range of D0 over the admitted estimates (over every estimate that
+//!    passes the physical checks when no fit describes the data: fit quality then cannot choose
+//!    among the models, and the value comes from the least bad one), and never less than half
 //!    the extrapolated part, ½ (D0 − observed sum): LeRoy and Bernstein (J. Chem. Phys. 52,
 //!    3869 (1970)) state that their extrapolation predicts the levels above the highest one
 //!    measured with uncertainties no larger than the binding energy of that level, and no
@@ -73,6 +79,8 @@ pub enum Family {
         /// Whether this is the primary (n fixed) fit.
         primary: bool,
     },
+    /// A near-dissociation expansion fitted to all levels (same data as the polynomials).
+    Expansion,
 }
 
 impl Family {
@@ -81,6 +89,10 @@ impl Family {
     }
     fn is_near_dissociation(self) -> bool {
         matches!(self, Family::NearDissociation { .. })
+    }
+    /// Fitted to every level, so comparable by AICc with the other models of all levels.
+    fn fits_all_levels(self) -> bool {
+        self.is_polynomial() || self == Family::Expansion
     }
 }
 
@@ -91,6 +103,8 @@ pub struct FitEvidence {
     pub chi2: f64,
     /// Degrees of freedom.
     pub dof: usize,
+    /// Number of data the fit describes (degrees of freedom plus fitted parameters).
+    pub points: usize,
     /// Whether the fit converged.
     pub converged: bool,
 }
@@ -99,6 +113,15 @@ impl FitEvidence {
     /// χ²_ν, `None` without degrees of freedom.
     pub fn chi2_reduced(&self) -> Option<f64> {
         (self.dof > 0).then(|| self.chi2 / self.dof as f64)
+    }
+    /// AICc = χ² + 2k + 2k(k+1)/(m − k − 1) with k = points − dof parameters (Hurvich & Tsai,
+    /// Biometrika 76, 297 (1989), from memory); `None` when m ≤ k + 1.
+    pub fn aicc(&self) -> Option<f64> {
+        let k = self.points.checked_sub(self.dof)?;
+        (self.points > k + 1).then(|| {
+            let kf = k as f64;
+            self.chi2 + 2.0 * kf + 2.0 * kf * (kf + 1.0) / (self.points - k - 1) as f64
+        })
     }
     /// Probability of a χ² at least this large for a correct model (1 without dof).
     pub fn p_value(&self) -> f64 {
@@ -196,7 +219,8 @@ pub struct Recommended {
     /// Largest number of bound levels consistent with the interval of v_D.
     #[serde(default)]
     pub n_bound_max: Option<u64>,
-    /// Methods whose D0 make up σ_model (the admitted estimates).
+    /// Methods whose D0 make up σ_model and the interval: the admitted estimates, or every
+    /// estimate with physical parameters when no fit describes the data.
     pub spread_methods: Vec<String>,
     /// One-line reason.
     pub reason: String,
@@ -267,12 +291,17 @@ fn admit_one(c: &Candidate, ev: &Evidence, cov: Option<&DMatrix<f64>>) -> Result
     Ok(c.fit.map_or(1.0, |f| f.p_value()))
 }
 
-/// Step 1 across candidates: admitted flags with reasons, and whether the misfit fallback was used.
-fn admit(
-    cands: &[Candidate],
-    ev: &Evidence,
-    cov: Option<&DMatrix<f64>>,
-) -> (Vec<(bool, String)>, bool) {
+/// Step 1 across candidates.
+struct Admission {
+    /// Admitted flag and reason per candidate.
+    flags: Vec<(bool, String)>,
+    /// Whether no fit passed the fit-quality test (the least bad were kept).
+    fallback: bool,
+    /// Candidates that pass every check except fit quality.
+    physical: Vec<usize>,
+}
+
+fn admit(cands: &[Candidate], ev: &Evidence, cov: Option<&DMatrix<f64>>) -> Admission {
     let hard: Vec<Result<f64, String>> = cands
         .iter()
         .map(|c| match c.family {
@@ -291,7 +320,8 @@ fn admit(
         .filter(|(_, h)| h.is_ok())
         .filter_map(|(c, _)| c.fit.and_then(|f| f.chi2_reduced()))
         .fold(f64::INFINITY, f64::min);
-    let out = cands
+    let physical = (0..cands.len()).filter(|&i| hard[i].is_ok()).collect();
+    let flags = cands
         .iter()
         .zip(hard)
         .map(|(c, h)| match h {
@@ -311,7 +341,11 @@ fn admit(
             }
         })
         .collect();
-    (out, !any_pass)
+    Admission {
+        flags,
+        fallback: !any_pass,
+        physical,
+    }
 }
 
 fn admitted_reason(c: &Candidate) -> String {
@@ -324,6 +358,9 @@ fn admitted_reason(c: &Candidate) -> String {
         Family::NearDissociation { .. } => format!(
             "its near-dissociation fit describes the top levels{q}, with physical parameters"
         ),
+        Family::Expansion => format!(
+            "its expansion describes all the levels{q}, and its levels rise and its spacings shrink all the way to the limit"
+        ),
         _ => format!(
             "its polynomial describes the levels{q} and its limit lies above the observed sum"
         ),
@@ -331,11 +368,39 @@ fn admitted_reason(c: &Candidate) -> String {
 }
 
 /// Step 2: the preferred estimate among the admitted ones.
-fn prefer(cands: &[Candidate], admitted: &[(bool, String)], ev: &Evidence) -> Option<usize> {
+/// On what grounds the recommended estimate was chosen.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Basis {
+    /// Lowest AICc among the admitted models of all levels.
+    Aicc,
+    /// The family expected for these data.
+    Family,
+    /// The preferred family was not admitted: smallest χ²_ν.
+    BestFit,
+}
+
+fn prefer(
+    cands: &[Candidate],
+    admitted: &[(bool, String)],
+    ev: &Evidence,
+) -> Option<(usize, Basis)> {
     let ok = |i: usize| admitted[i].0;
     let near = ev.spacing_ratio.is_some_and(|r| r <= NEAR_RATIO);
     let first =
         |pred: &dyn Fn(&Candidate) -> bool| (0..cands.len()).find(|&i| ok(i) && pred(&cands[i]));
+    let aicc = |i: usize| cands[i].fit.and_then(|f| f.aicc());
+    // Models of all levels are compared on the same data by AICc.
+    let by_aicc = (0..cands.len())
+        .filter(|&i| ok(i) && cands[i].family.fits_all_levels() && aicc(i).is_some())
+        .min_by(|&a, &b| {
+            aicc(a)
+                .unwrap_or(f64::INFINITY)
+                .total_cmp(&aicc(b).unwrap_or(f64::INFINITY))
+        });
+    let has_expansion = by_aicc.is_some() && first(&|c| c.family == Family::Expansion).is_some();
+    if has_expansion {
+        return by_aicc.map(|i| (i, Basis::Aicc));
+    }
     let by_family = if near {
         first(&|c| c.family == Family::NearDissociation { primary: true })
             .or_else(|| first(&|c| c.family.is_near_dissociation()))
@@ -344,8 +409,9 @@ fn prefer(cands: &[Candidate], admitted: &[(bool, String)], ev: &Evidence) -> Op
             .or_else(|| first(&|c| c.family == Family::LinearBs))
             .or_else(|| first(&|c| c.family.is_polynomial()))
     };
+    let by_family = by_family.map(|i| (i, Basis::Family));
     by_family.or_else(|| {
-        (0..cands.len()).filter(|&i| ok(i)).min_by(|&a, &b| {
+        let best = (0..cands.len()).filter(|&i| ok(i)).min_by(|&a, &b| {
             let r = |i: usize| {
                 cands[i]
                     .fit
@@ -353,7 +419,8 @@ fn prefer(cands: &[Candidate], admitted: &[(bool, String)], ev: &Evidence) -> Op
                     .unwrap_or(f64::INFINITY)
             };
             r(a).total_cmp(&r(b))
-        })
+        });
+        best.map(|i| (i, Basis::BestFit))
     })
 }
 
@@ -370,10 +437,14 @@ fn interval(best: f64, vals: &[f64], sigma_model: f64, sigma_stat: f64) -> (f64,
     (lo - 2.0 * sigma_stat, hi + 2.0 * sigma_stat)
 }
 
-fn reason_for(c: &Candidate, ev: &Evidence, lone: bool) -> String {
+fn reason_for(c: &Candidate, ev: &Evidence, basis: Basis, lone: bool) -> String {
     let coverage = 1.0 - c.extrapolated_fraction.unwrap_or(1.0);
     let near = ev.spacing_ratio.is_some_and(|r| r <= NEAR_RATIO);
     let mut s = match c.family {
+        _ if basis == Basis::Aicc => format!(
+            "of the admitted models of all the levels (polynomials and the near-dissociation expansion), this one has the lowest AICc, so it is preferred; the levels reach {} of the well",
+            pct(coverage)
+        ),
         Family::NearDissociation { .. } if near => format!(
             "the observed spacings shrink to {} of their largest value, so the levels approach the limit and the near-dissociation (LeRoy–Bernstein, n = {}) fit is preferred; the levels reach {} of the well",
             pct(ev.spacing_ratio.unwrap_or(0.0)),
@@ -404,15 +475,19 @@ fn reason_for(c: &Candidate, ev: &Evidence, lone: bool) -> String {
 
 /// Decide admission, recommend, state the interval, and warn (the rule of the module docs).
 pub fn assess(cands: &[Candidate], cov_eff: Option<&DMatrix<f64>>, ev: &Evidence) -> Assessment {
-    let (defensible, fallback) = admit(cands, ev, cov_eff);
+    let adm = admit(cands, ev, cov_eff);
+    let defensible = adm.flags;
     let mut warnings = Vec::new();
-    if fallback && defensible.iter().any(|d| d.0) {
-        warnings.push("no method's own fit describes the data within their uncertainties: the estimates kept are the least bad, and the interval is less certain than stated".into());
+    if adm.fallback && defensible.iter().any(|d| d.0) {
+        warnings.push("no method's own fit describes the data within their uncertainties: the value comes from the least bad fit, and the interval spans every estimate with physical parameters".into());
     }
     let spread: Vec<usize> = (0..cands.len()).filter(|&i| defensible[i].0).collect();
+    // When no model describes the data, fit quality cannot choose among them: the model
+    // uncertainty spans every estimate that is physical, admitted or not.
+    let model_set = if adm.fallback { &adm.physical } else { &spread };
     let recommended = match prefer(cands, &defensible, ev) {
         None => none_recommended(),
-        Some(i) => recommend_from(cands, &spread, i, ev),
+        Some((i, basis)) => recommend_from(cands, model_set, (i, basis), ev),
     };
     if let Some(cov) = cov_eff {
         disagreement_warnings(cands, &spread, cov, &mut warnings);
@@ -444,7 +519,12 @@ fn none_recommended() -> Recommended {
     }
 }
 
-fn recommend_from(cands: &[Candidate], spread: &[usize], i: usize, ev: &Evidence) -> Recommended {
+fn recommend_from(
+    cands: &[Candidate],
+    model_set: &[usize],
+    (i, basis): (usize, Basis),
+    ev: &Evidence,
+) -> Recommended {
     let c = &cands[i];
     let (sigma, source) = match (c.sigma_mc, c.sigma_cov) {
         (Some(s), _) => (Some(s), Some("monte-carlo".to_string())),
@@ -454,7 +534,7 @@ fn recommend_from(cands: &[Candidate], spread: &[usize], i: usize, ev: &Evidence
     let observed = ev.observed.as_ref().map(|o| o.value);
     let raw = c.d0.as_ref().map_or(f64::NAN, |d| d.value);
     let d0 = observed.map_or(raw, |o| raw.max(o));
-    let d0s: Vec<f64> = spread
+    let d0s: Vec<f64> = model_set
         .iter()
         .filter_map(|&j| cands[j].d0.as_ref().map(|d| d.value))
         .collect();
@@ -470,7 +550,7 @@ fn recommend_from(cands: &[Candidate], spread: &[usize], i: usize, ev: &Evidence
     let lo = observed.map_or(lo, |o| lo.max(o));
     let (v_d, v_lo, v_hi) = match c.v_d {
         Some((v, s)) => {
-            let vds: Vec<f64> = spread
+            let vds: Vec<f64> = model_set
                 .iter()
                 .filter_map(|&j| cands[j].v_d.map(|x| x.0))
                 .collect();
@@ -495,8 +575,8 @@ fn recommend_from(cands: &[Candidate], spread: &[usize], i: usize, ev: &Evidence
         v_d_high: v_hi,
         n_bound_min: v_lo.map(count),
         n_bound_max: v_hi.map(count),
-        spread_methods: spread.iter().map(|&j| cands[j].method.clone()).collect(),
-        reason: reason_for(c, ev, d0s.len() < 2),
+        spread_methods: model_set.iter().map(|&j| cands[j].method.clone()).collect(),
+        reason: reason_for(c, ev, basis, d0s.len() < 2),
     }
 }
 
@@ -552,6 +632,7 @@ mod tests {
             fit: Some(FitEvidence {
                 chi2,
                 dof,
+                points: dof + 3,
                 converged: true,
             }),
             n_fitted: None,
@@ -583,6 +664,7 @@ mod tests {
             let f = FitEvidence {
                 chi2,
                 dof,
+                points: dof + 3,
                 converged: true,
             };
             assert!(
@@ -677,6 +759,14 @@ mod tests {
         let a = assess(&c, None, &evidence(950.0, 0.5));
         assert!(a.defensible[0].0 && a.defensible[1].0 && !a.defensible[2].0);
         assert!(!a.warnings.is_empty());
+        // No fit describes the data, so the one left out on fit quality alone still bounds the
+        // model uncertainty: "b" (1010) is recommended, σ_model = (1020 − 1000)/2 = 10 rather
+        // than the 5.5 of half the extrapolated part, and the interval reaches 1010 + 2·10.
+        let r = assess(&c, None, &evidence(999.0, 0.5)).recommended;
+        assert_eq!(r.method.as_deref(), Some("b"));
+        assert_eq!(r.spread_methods, vec!["a", "b", "c"]);
+        assert!((r.sigma_model_cm1.unwrap() - 10.0).abs() < 1e-9);
+        assert!(r.d0_high_cm1.unwrap() >= 1030.0 - 1e-9);
     }
 
     /// Which family is preferred is judged from the observed spacings alone.
@@ -701,6 +791,55 @@ mod tests {
             let r = a.recommended;
             assert!(r.d0_low_cm1.unwrap() <= 990.0 && r.d0_high_cm1.unwrap() >= 1000.0);
         }
+    }
+
+    /// AICc by hand: χ² = 10, m = 20 points, k = 3 parameters → 10 + 6 + 2·3·4/16 = 17.5
+    /// (the closed form of Hurvich & Tsai, Biometrika 76, 297 (1989), from memory).
+    #[test]
+    fn aicc_matches_the_closed_form() {
+        let f = FitEvidence {
+            chi2: 10.0,
+            dof: 17,
+            points: 20,
+            converged: true,
+        };
+        assert!((f.aicc().unwrap() - 17.5).abs() < 1e-12);
+        let saturated = FitEvidence {
+            chi2: 0.0,
+            dof: 1,
+            points: 3,
+            converged: true,
+        };
+        assert_eq!(saturated.aicc(), None);
+    }
+
+    /// With an admitted expansion, the all-level model of lowest AICc is preferred whichever
+    /// family it belongs to; a near-dissociation fit of the top levels does not take part.
+    #[test]
+    fn an_admitted_expansion_is_weighed_by_aicc() {
+        let ev = evidence(950.0, 0.1);
+        let mut c = vec![
+            cand(
+                "curved",
+                Family::CurvedBs { significant: true },
+                990.0,
+                12.0,
+                12,
+            ),
+            cand("nde", Family::Expansion, 1000.0, 10.0, 12),
+            cand(
+                "ld",
+                Family::NearDissociation { primary: true },
+                1005.0,
+                1.0,
+                3,
+            ),
+        ];
+        let a = assess(&c, None, &ev);
+        assert_eq!(a.recommended.method.as_deref(), Some("nde"));
+        c[1].fit.as_mut().unwrap().chi2 = 14.0;
+        let a = assess(&c, None, &ev);
+        assert_eq!(a.recommended.method.as_deref(), Some("curved"));
     }
 
     /// An n-free fit at an implausible n, or one that did not converge, is no evidence.
