@@ -425,8 +425,11 @@ fn gradients(
         w.apply(&col, &mut buf);
         aw.set_column(j, &DVector::from_column_slice(&buf));
     }
-    let ata_inv = (aw.transpose() * &aw).try_inverse()?;
-    let sens = ata_inv * aw.transpose(); // (k+1) × m, acting on whitened data
+    // The pseudo-inverse from the SVD, not (AᵀA)⁻¹Aᵀ: the normal equations would square the
+    // condition number of a design with up to ten columns.
+    let svd = aw.svd(true, true);
+    let cut = 1e-14 * svd.singular_values.max();
+    let sens = svd.pseudo_inverse(cut).ok()?; // (k+1) × m, acting on whitened data
     let wmat = whitener_matrix(w);
     let s_e = sens * wmat; // (k+1) × m, acting on E
     let to_y = |r: usize| -> DVector<f64> { input.map.transpose() * s_e.row(r).transpose() };
