@@ -11,8 +11,8 @@
 //!
 //! - n is fixed by the physics of the asymptote; X0 is fitted, or fixed from a theoretical C_n.
 //! - For fixed v_D the model is linear in (D, X0, X0·p̃_i), so the fit is a profile over v_D: a
-//!   weighted linear solve for each v_D, a log-spaced grid above the top level, golden-section
-//!   refinement (common practice, no source).
+//!   weighted linear solve for each v_D, a log-spaced grid above the top level, and the
+//!   minimum refined where the profile's analytic slope vanishes (common practice, no source).
 //! - The correction order L is chosen by AICc over 0 … [`L_MAX`] among the acceptable fits: a fit
 //!   is rejected, with the reason, when X0 ≤ 0, when its levels do not rise all the way from the
 //!   lowest level to the limit, or when its spacings grow again between the top level and the
@@ -91,6 +91,25 @@ impl Design {
         Some(offset)
     }
 
+    /// ∂(row)/∂v_D given the row at x = v_D − v and its offset; returns ∂(offset)/∂v_D. Every
+    /// column but the constant one is a multiple of x^q (q = a for X0, a + j for the j-th
+    /// correction), so its derivative is the column times q / x.
+    fn slope_row(&self, n: f64, x: f64, row: &[f64], off: f64, drow: &mut [f64]) -> f64 {
+        let a = exponent(n);
+        drow[0] = 0.0;
+        let first = match self.x0_fixed {
+            Some(_) => 1,
+            None => {
+                drow[1] = row[1] * a / x;
+                2
+            }
+        };
+        for j in 0..self.l {
+            drow[first + j] = row[first + j] * (a + (j + 1) as f64) / x;
+        }
+        off * a / x
+    }
+
     /// X0 and the scaled coefficients p̃ from the linear solution θ.
     fn unpack(&self, theta: &DVector<f64>) -> (f64, Vec<f64>) {
         let (x0, first) = match self.x0_fixed {
@@ -101,41 +120,61 @@ impl Design {
     }
 }
 
-/// Weighted linear solve at fixed v_D: (θ, χ²).
-fn solve_at(
-    v: &[f64],
-    e: &[f64],
-    w: &Whitener,
-    n: f64,
-    d: &Design,
-    v_d: f64,
-) -> Option<(DVector<f64>, f64)> {
+/// The weighted linear solve at one v_D.
+struct Solve {
+    /// Linear parameters θ.
+    theta: DVector<f64>,
+    /// Weighted χ² at θ.
+    chi2: f64,
+    /// dχ²_profile/dv_D: by the envelope theorem the partial derivative at fixed θ,
+    /// 2 rᵀ W ∂(Aθ − y)/∂v_D (Golub & Pereyra 1973, from memory).
+    slope: f64,
+}
+
+/// Weighted linear solve at fixed v_D with the profile's slope.
+fn solve_at(v: &[f64], e: &[f64], w: &Whitener, n: f64, d: &Design, v_d: f64) -> Option<Solve> {
     let m = v.len();
     let k = d.k();
     let mut a = DMatrix::zeros(m, k);
+    let mut da = DMatrix::zeros(m, k);
     let mut rhs = DVector::zeros(m);
-    let mut row = vec![0.0; k];
+    let mut drhs = DVector::zeros(m);
+    let (mut row, mut drow) = (vec![0.0; k], vec![0.0; k]);
     for (i, &vi) in v.iter().enumerate() {
         let off = d.row(n, v_d, vi, &mut row)?;
+        drhs[i] = d.slope_row(n, v_d - vi, &row, off, &mut drow);
         for j in 0..k {
             a[(i, j)] = row[j];
+            da[(i, j)] = drow[j];
         }
         rhs[i] = e[i] + off;
     }
-    let (aw, yw) = match w {
-        Whitener::Diagonal(wd) => {
-            for (i, wi) in wd.iter().enumerate() {
-                a.row_mut(i).scale_mut(*wi);
-                rhs[i] *= wi;
-            }
-            (a, rhs)
-        }
-        Whitener::Full(l) => (l * a, l * rhs),
-    };
+    let (aw, yw) = whiten(w, a, rhs);
     let theta = lsq_solve(&aw, &yw)?;
     let r = &aw * &theta - &yw;
+    let (_, dr) = whiten(w, DMatrix::zeros(0, 0), &da * &theta - drhs);
     let chi2 = r.norm_squared();
-    chi2.is_finite().then_some((theta, chi2))
+    let slope = 2.0 * r.dot(&dr);
+    (chi2.is_finite() && slope.is_finite()).then_some(Solve { theta, chi2, slope })
+}
+
+/// W·A and W·y for the whitener W (an empty A stays empty).
+fn whiten(w: &Whitener, mut a: DMatrix<f64>, mut y: DVector<f64>) -> (DMatrix<f64>, DVector<f64>) {
+    match w {
+        Whitener::Diagonal(wd) => {
+            for (i, wi) in wd.iter().enumerate() {
+                if a.nrows() > 0 {
+                    a.row_mut(i).scale_mut(*wi);
+                }
+                y[i] *= wi;
+            }
+            (a, y)
+        }
+        Whitener::Full(l) => {
+            let a = if a.nrows() > 0 { l * a } else { a };
+            (a, l * y)
+        }
+    }
 }
 
 /// Least squares min ‖A θ − y‖: Householder QR when A is well conditioned (the usual case, and
@@ -156,53 +195,54 @@ fn lsq_solve(a: &DMatrix<f64>, y: &DVector<f64>) -> Option<DVector<f64>> {
     a.clone().svd(true, true).solve(y, 1e-13).ok()
 }
 
-/// Refine a minimum of the profile near `start` by damped Newton steps on central differences,
-/// staying inside (lo, hi); `None` when no step lowers it or a step leaves the bracket.
-fn newton_minimum(prof: &dyn Fn(f64) -> f64, start: f64, lo: f64, hi: f64) -> Option<f64> {
-    let mut x = start;
-    let mut fx = prof(x);
-    for _ in 0..12 {
-        let h = 1e-3 * (x - lo).max(1e-6);
-        let (fp, fm) = (prof(x + h), prof(x - h));
-        let d1 = (fp - fm) / (2.0 * h);
-        let d2 = (fp - 2.0 * fx + fm) / (h * h);
-        if !(d2 > 0.0 && d1.is_finite()) {
-            return None;
+/// The profile as seen by the minimisers: χ² and slope at v_D, `None` where it is undefined.
+type Profile<'a> = dyn Fn(f64) -> Option<(f64, f64)> + 'a;
+
+/// The root of the profile's slope in [lo, hi], where it changes sign from − to +, by the
+/// Illinois variant of regula falsi (Dowell & Jarratt 1971, from memory) to a relative width of
+/// 1e-14. Locating the zero of the slope fixes v_D to rounding of the slope; a minimiser of χ²
+/// alone could fix it only to the square root of the rounding, which differs between the
+/// native and the browser builds' elementary functions.
+fn slope_root(prof: &Profile, mut lo: f64, mut hi: f64) -> Option<f64> {
+    let (mut slo, mut shi) = (prof(lo)?.1, prof(hi)?.1);
+    if !(slo < 0.0 && shi > 0.0) {
+        return None;
+    }
+    let mut side = 0i8;
+    for _ in 0..200 {
+        if hi - lo <= 1e-14 * hi.abs().max(1.0) {
+            break;
         }
-        let mut step = -d1 / d2;
-        if step.abs() <= 1e-9 * x.abs().max(1.0) {
-            return Some(x + step);
+        let mut x = (lo * shi - hi * slo) / (shi - slo);
+        if !(x > lo && x < hi) {
+            x = 0.5 * (lo + hi);
         }
-        let mut accepted = false;
-        for _ in 0..6 {
-            let xn = x + step;
-            if xn > lo && xn < hi {
-                let fnew = prof(xn);
-                if fnew <= fx {
-                    (x, fx, accepted) = (xn, fnew, true);
-                    break;
-                }
+        let sx = prof(x)?.1;
+        if sx == 0.0 {
+            return Some(x);
+        }
+        if sx < 0.0 {
+            (lo, slo) = (x, sx);
+            if side == -1 {
+                shi *= 0.5;
             }
-            step *= 0.5;
-        }
-        if !accepted {
-            // No lower point along the step: x is the minimum to within the step.
-            return (step.abs() <= 1e-6 * x.abs().max(1.0)).then_some(x);
+            side = -1;
+        } else {
+            (hi, shi) = (x, sx);
+            if side == 1 {
+                slo *= 0.5;
+            }
+            side = 1;
         }
     }
-    None
+    Some(0.5 * (lo + hi))
 }
 
 /// The minimum of the profiled χ²(v_D) over a log grid of v_D − v_top in
-/// [lo_gap, hi_gap], refined by golden section.
-fn profile_minimum(
-    prof: &dyn Fn(f64) -> f64,
-    v_top: f64,
-    lo_gap: f64,
-    hi_gap: f64,
-    points: usize,
-    rel_tol: f64,
-) -> f64 {
+/// [lo_gap, hi_gap], refined at the zero of the slope (golden section on χ² where the slope
+/// does not bracket a zero, as next to the top level).
+fn profile_minimum(prof: &Profile, v_top: f64, lo_gap: f64, hi_gap: f64, points: usize) -> f64 {
+    let chi2 = |x: f64| prof(x).map_or(f64::INFINITY, |p| p.0);
     let ratio = hi_gap / lo_gap;
     let grid: Vec<f64> = (0..=points)
         .map(|i| v_top + lo_gap * ratio.powf(i as f64 / points as f64))
@@ -210,11 +250,42 @@ fn profile_minimum(
     let (ib, _) = grid
         .iter()
         .enumerate()
-        .map(|(i, &g)| (i, prof(g)))
+        .map(|(i, &g)| (i, chi2(g)))
         .fold((0, f64::INFINITY), |b, c| if c.1 < b.1 { c } else { b });
     let lo = if ib == 0 { v_top } else { grid[ib - 1] };
     let hi = grid[(ib + 1).min(grid.len() - 1)];
-    golden(prof, lo, hi, rel_tol)
+    let mid = grid[ib];
+    let halves = match prof(mid) {
+        Some((_, s)) if s > 0.0 => slope_root(prof, lo, mid),
+        Some((_, s)) if s < 0.0 => slope_root(prof, mid, hi),
+        Some(_) => Some(mid),
+        None => None,
+    };
+    halves.unwrap_or_else(|| golden(&chi2, lo, hi, 1e-13))
+}
+
+/// A draw's minimum near the nominal v_D: step the gap to the top level by factors of 1.25
+/// downhill until the slope changes sign, inside [lo, hi]; `None` when it does not.
+fn nearby_minimum(prof: &Profile, start: f64, v_top: f64, lo: f64, hi: f64) -> Option<f64> {
+    let s0 = prof(start)?.1;
+    if s0 == 0.0 {
+        return Some(start);
+    }
+    let factor: f64 = if s0 > 0.0 { 1.0 / 1.25 } else { 1.25 };
+    let mut x = start;
+    for _ in 0..12 {
+        let next = v_top + (x - v_top) * factor;
+        if !(next >= lo && next <= hi) {
+            return None;
+        }
+        let s = prof(next)?.1;
+        if (s > 0.0) != (s0 > 0.0) || s == 0.0 {
+            let (a, b) = if next < x { (next, x) } else { (x, next) };
+            return slope_root(prof, a, b);
+        }
+        x = next;
+    }
+    None
 }
 
 fn check_input(v: &[f64], e: &[f64], n: f64, k: usize) -> bool {
@@ -253,9 +324,9 @@ fn profile_fit(
     let v_top = v.iter().copied().fold(f64::MIN, f64::max);
     let v_bot = v.iter().copied().fold(f64::MAX, f64::min);
     let span = (v_top - v_bot).max(1.0);
-    let prof = |vd: f64| solve_at(v, e, w, n, design, vd).map_or(f64::INFINITY, |s| s.1);
-    let v_d = profile_minimum(&prof, v_top, 1e-3, 1e1 * span, 240, 1e-13);
-    let (theta, chi2) = solve_at(v, e, w, n, design, v_d)?;
+    let prof = |vd: f64| solve_at(v, e, w, n, design, vd).map(|s| (s.chi2, s.slope));
+    let v_d = profile_minimum(&prof, v_top, 1e-3, 1e1 * span, 240);
+    let Solve { theta, chi2, .. } = solve_at(v, e, w, n, design, v_d)?;
     let (x0, pt) = design.unpack(&theta);
     let p = pt
         .iter()
@@ -400,22 +471,16 @@ fn gradients(
     let m = input.v.len();
     let k = design.k();
     // Jacobian of the model G(v) with respect to (θ_lin, v_D): the linear columns are the
-    // design row; ∂G/∂v_D from a central difference of the design at fixed θ.
+    // design row, ∂G/∂v_D the analytic derivative of the row at fixed θ.
     let mut jac = DMatrix::zeros(m, k + 1);
-    let mut row = vec![0.0; k];
-    let h = 1e-6 * (f.v_d - input.v.iter().copied().fold(f64::MIN, f64::max)).max(1e-6);
-    let model = |vd: f64, vi: f64, row: &mut [f64]| -> Option<f64> {
-        let off = design.row(n, vd, vi, row)?;
-        Some((0..k).map(|j| row[j] * theta[j]).sum::<f64>() - off)
-    };
+    let (mut row, mut drow) = (vec![0.0; k], vec![0.0; k]);
     for (i, &vi) in input.v.iter().enumerate() {
-        design.row(n, f.v_d, vi, &mut row)?;
+        let off = design.row(n, f.v_d, vi, &mut row)?;
+        let doff = design.slope_row(n, f.v_d - vi, &row, off, &mut drow);
         for j in 0..k {
             jac[(i, j)] = row[j];
         }
-        let gp = model(f.v_d + h, vi, &mut row)?;
-        let gm = model(f.v_d - h, vi, &mut row)?;
-        jac[(i, k)] = (gp - gm) / (2.0 * h);
+        jac[(i, k)] = (0..k).map(|j| drow[j] * theta[j]).sum::<f64>() - doff;
     }
     // Whitened Jacobian A = W J; sensitivity rows S = (AᵀA)⁻¹ Aᵀ W.
     let mut aw = DMatrix::zeros(m, k + 1);
@@ -500,14 +565,15 @@ impl Redraw for NdeEstimator {
         self.e.copy_from_slice(e.as_slice());
         let v_top = self.v.iter().copied().fold(f64::MIN, f64::max);
         let (v, ee, w, n, design) = (&self.v, &self.e, &self.w, self.n, &self.design);
-        let prof = |vd: f64| solve_at(v, ee, w, n, design, vd).map_or(f64::INFINITY, |s| s.1);
+        let prof = |vd: f64| solve_at(v, ee, w, n, design, vd).map(|s| (s.chi2, s.slope));
         // A draw moves v_D by a fraction of its distance to the top level: search a factor 10
-        // either side of the nominal gap; v_D to 1e-10 of itself is far inside any draw's spread.
-        // Newton from the nominal v_D first (a draw moves it little); the grid when that fails.
+        // either side of the nominal gap, from the nominal v_D first (a draw moves it little);
+        // the grid when the slope does not change sign on the way.
         let gap = (self.v_d - v_top).max(1e-3);
-        let vd = newton_minimum(&prof, self.v_d, v_top + 0.1 * gap, v_top + 10.0 * gap)
-            .unwrap_or_else(|| profile_minimum(&prof, v_top, 0.1 * gap, 10.0 * gap, 24, 1e-10));
-        let Some((theta, _)) = solve_at(v, ee, w, n, design, vd) else {
+        let (lo, hi) = (v_top + 0.1 * gap, v_top + 10.0 * gap);
+        let vd = nearby_minimum(&prof, self.v_d, v_top, lo, hi)
+            .unwrap_or_else(|| profile_minimum(&prof, v_top, 0.1 * gap, 10.0 * gap, 24));
+        let Some(Solve { theta, .. }) = solve_at(v, ee, w, n, design, vd) else {
             return DrawValue::Failed;
         };
         let d0 = theta[0] - self.e0.at(dy_base);
@@ -593,5 +659,56 @@ mod tests {
         assert!((f.d_cm1 - d).abs() < 1e-5 * d, "D {}", f.d_cm1);
         assert!((f.v_d - v_d).abs() < 1e-5, "v_D {}", f.v_d);
         assert!((f.p[0] - p1).abs() < 1e-5, "p1 {}", f.p[0]);
+    }
+
+    #[test]
+    fn profile_slope_is_the_derivative_of_the_profile() {
+        // SOURCE: a central difference of the profiled χ² itself (the slope is computed
+        // analytically by the envelope theorem, so the two are independent routes).
+        let (n, d, v_d, x0, p1) = (6.0, 3000.0, 12.7, 2.5, 0.02);
+        let v: Vec<f64> = (0..10).map(|i| i as f64).collect();
+        // Levels off the model (a wiggle), so the residuals and the slope are not zero.
+        let e: Vec<f64> = v
+            .iter()
+            .map(|&vi| d - x0 * (v_d - vi).powf(3.0) * (1.0 + p1 * (v_d - vi)) + (vi * 1.7).sin())
+            .collect();
+        let w = Whitener::from_cov(&DMatrix::identity(10, 10)).expect("whitener");
+        for x0_fixed in [None, Some(2.4)] {
+            let design = Design {
+                l: 2,
+                scale: 10.0,
+                x0_fixed,
+            };
+            for vd in [9.5, 12.0, 14.0, 20.0] {
+                let s = solve_at(&v, &e, &w, n, &design, vd).expect("solve");
+                let h = 1e-5;
+                let fp = solve_at(&v, &e, &w, n, &design, vd + h)
+                    .expect("solve")
+                    .chi2;
+                let fm = solve_at(&v, &e, &w, n, &design, vd - h)
+                    .expect("solve")
+                    .chi2;
+                let fd = (fp - fm) / (2.0 * h);
+                assert!(
+                    (s.slope - fd).abs() <= 1e-5 * fd.abs().max(1.0),
+                    "v_D {vd}: slope {} vs difference {fd}",
+                    s.slope
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn slope_root_finds_a_known_zero() {
+        // SOURCE: the closed form χ²(x) = (x − √2)², slope 2(x − √2), zero at √2.
+        let prof = |x: f64| Some(((x - 2f64.sqrt()).powi(2), 2.0 * (x - 2f64.sqrt())));
+        let r = slope_root(&prof, 0.0, 5.0).expect("bracketed");
+        assert!((r - 2f64.sqrt()).abs() < 1e-13, "{r}");
+        assert!(
+            slope_root(&prof, 2.0, 5.0).is_none(),
+            "no sign change, no root"
+        );
+        let near = nearby_minimum(&prof, 3.0, 0.0, 0.1, 30.0).expect("found downhill");
+        assert!((near - 2f64.sqrt()).abs() < 1e-13, "{near}");
     }
 }
