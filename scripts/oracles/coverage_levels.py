@@ -71,6 +71,58 @@ def depth_of(a, p):
 DD["a_cm1"] = float(so.brentq(lambda a: depth_of(a, DD)[0] - 4500.0, 1e6, 1e12, xtol=1e-6, rtol=1e-14))
 
 
+def v_damped(r, a, p, ns):
+    """A exp(-b r) - sum_n f_n(b r) C_n / r^n with Tang-Toennies damping f_n."""
+    x = p["b_per_angstrom"] * r
+    att = sum(ss.gammainc(n + 1, x) * p[f"c{n}_cm1_a{n}"] / r**n for n in ns)
+    return a * np.exp(-x) - att
+
+
+def depth_of_damped(a, p, ns, r_lo):
+    res = so.minimize_scalar(lambda r: v_damped(r, a, p, ns), bounds=(r_lo, r_lo + 8.0),
+                             method="bounded", options={"xatol": 1e-10})
+    return -res.fun
+
+
+def set_depth(p, ns, depth, r_lo):
+    p["a_cm1"] = float(so.brentq(lambda a: depth_of_damped(a, p, ns, r_lo) - depth, 1e4, 1e14,
+                                 xtol=1e-6, rtol=1e-14))
+
+
+# 3. ion_c4 (SYNTHETIC): Born-Mayer + damped C4 (charge-induced dipole) and C6, depth 2500.
+IC = {"b_per_angstrom": 3.2, "c4_cm1_a4": 8.0e4, "c6_cm1_a6": 3.0e5}
+IC_MU = 6.0
+set_depth(IC, (4, 6), 2500.0, 1.0)
+
+# 4. resonant_c3 (SYNTHETIC): Born-Mayer + damped C3 (resonant dipole) and C6, depth 3000.
+RC = {"b_per_angstrom": 2.6, "c3_cm1_a3": 1.5e5, "c6_cm1_a6": 2.0e6}
+RC_MU = 10.0
+set_depth(RC, (3, 6), 3000.0, 1.0)
+
+# 5. valence_deep (SYNTHETIC): extended Rydberg well -De (1 + a1 p + a2 p^2 + a3 p^3) exp(-a1 p),
+# p = r - re, plus a Tang-Toennies-damped C6 tail, so the long range is -C6/r^6.
+VD = {"de_ryd_cm1": 20000.0, "re_angstrom": 1.6, "a1_per_angstrom": 3.0, "a2_per_angstrom2": 2.0,
+      "a3_per_angstrom3": 0.5, "b_per_angstrom": 2.0, "c6_cm1_a6": 1.0e6}
+VD_MU = 7.0
+
+
+def v_valence(r):
+    p = r - VD["re_angstrom"]
+    poly = 1 + VD["a1_per_angstrom"] * p + VD["a2_per_angstrom2"] * p**2 + VD["a3_per_angstrom3"] * p**3
+    ryd = -VD["de_ryd_cm1"] * poly * np.exp(-VD["a1_per_angstrom"] * p)
+    return ryd - ss.gammainc(7, VD["b_per_angstrom"] * r) * VD["c6_cm1_a6"] / r**6
+
+
+def box_for(vfun, mu, n, cn, r_lo, dx, r_hi0):
+    """Outer edge for two converged runs: a first run on [r_lo, r_hi0] gives the last level's
+    binding eps; the box reaches its outer turning point (cn/eps)^(1/n) plus 14 decay lengths
+    1/kappa, kappa = sqrt(eps mu / C_u) (the wavefunction is below 1e-6 there)."""
+    w = dvr(vfun, mu, r_lo, r_hi0, dx)
+    eps = -w[-1]
+    r_t = (cn / eps) ** (1.0 / n)
+    return max(r_hi0, r_t + 14.0 / np.sqrt(eps * mu / C_U))
+
+
 def write(name, cls, pot, mu, n, cn, vfun, r_min, grids, extra=None):
     t0 = time.perf_counter()
     res = so.minimize_scalar(vfun, bounds=(r_min, r_min + 6.0), method="bounded", options={"xatol": 1e-10})
@@ -118,6 +170,18 @@ def main():
           {"form": "A exp(-b r) - sum_{n=6,8,10} f_n(b r) C_n/r^n, f_n Tang-Toennies damping", **DD},
           DD_MU, 6, DD["c6_cm1_a6"], lambda r: v_tt(r, DD["a_cm1"], DD), 2.0,
           [(1.8, 60.0, 0.02), (1.7, 75.0, 0.016)])
+    for name, cls, pot, mu, n, cn, vfun, r_lo, dx in (
+        ("ion_c4", "ion-like C4 tail", {"form": "A exp(-b r) - sum_{n=4,6} f_n(b r) C_n/r^n", **IC},
+         IC_MU, 4, IC["c4_cm1_a4"], lambda r: v_damped(r, IC["a_cm1"], IC, (4, 6)), 1.0, 0.02),
+        ("resonant_c3", "resonant-dipole C3 tail", {"form": "A exp(-b r) - sum_{n=3,6} f_n(b r) C_n/r^n", **RC},
+         RC_MU, 3, RC["c3_cm1_a3"], lambda r: v_damped(r, RC["a_cm1"], RC, (3, 6)), 1.0, 0.02),
+        ("valence_deep", "deep valence well, C6 tail",
+         {"form": "-De (1 + a1 p + a2 p^2 + a3 p^3) exp(-a1 p) - f_6(b r) C6/r^6, p = r - re", **VD},
+         VD_MU, 6, VD["c6_cm1_a6"], v_valence, 0.9, 0.012),
+    ):
+        r_hi = box_for(vfun, mu, n, cn, r_lo, 1.5 * dx, 40.0)
+        write(name, cls, pot, mu, n, cn, vfun, r_lo + 0.4,
+              [(r_lo, r_hi, dx), (r_lo - 0.05, 1.2 * r_hi, 0.8 * dx)])
     print(f"total {time.perf_counter() - t0:.1f} s")
 
 
