@@ -336,6 +336,7 @@ struct Work {
     nominal: Nominal,
     bs: Option<BsDetails>,
     lb: Option<LbDetails>,
+    expansion: Option<ExpansionDetails>,
     estimator: Option<Box<dyn Redraw>>,
     mc: Option<McResult>,
     curve: Option<Curve>,
@@ -537,6 +538,7 @@ fn run(
             }),
             bs: None,
             lb: None,
+            expansion: None,
             estimator: Some(Box::new(LinearEstimator { d0, de })),
             mc: None,
             curve: None,
@@ -566,6 +568,7 @@ fn run(
                     )),
                     bs: None,
                     lb: None,
+                    expansion: None,
                     estimator: None,
                     mc: None,
                     curve: None,
@@ -589,6 +592,7 @@ fn run(
                         nominal: Nominal::NoLimit(format!("the order-{k} fit failed: {e}")),
                         bs: None,
                         lb: None,
+                        expansion: None,
                         estimator: None,
                         mc: None,
                         curve: None,
@@ -635,6 +639,7 @@ fn run(
                 nominal: pe.nominal,
                 bs,
                 lb: None,
+                expansion: None,
                 estimator: has.then(|| Box::new(est) as Box<dyn Redraw>),
                 mc: None,
                 curve: Some(Curve {
@@ -753,6 +758,7 @@ fn run(
                 ),
                 bs: None,
                 lb: None,
+                expansion: None,
                 estimator: None,
                 mc: None,
                 curve: None,
@@ -781,6 +787,7 @@ fn run(
                 nominal: Nominal::NoLimit(why),
                 bs: None,
                 lb: None,
+                expansion: None,
                 estimator: None,
                 mc: None,
                 curve: None,
@@ -830,6 +837,7 @@ fn run(
                     nominal: Nominal::NoLimit(reason),
                     bs: None,
                     lb: Some(details),
+                    expansion: None,
                     estimator: None,
                     mc: None,
                     curve: None,
@@ -925,6 +933,7 @@ fn run(
                     nominal,
                     bs: None,
                     lb: Some(details),
+                    expansion: None,
                     estimator: Some(Box::new(est)),
                     mc: None,
                     curve: Some(Curve {
@@ -966,6 +975,8 @@ fn run(
             ctx: &ctx,
             zero_point: &zero_point,
             scale_of: &scale_of,
+            cov: cov_opt,
+            mu_u,
         };
         works.extend(nde_works(&nde));
     }
@@ -1196,6 +1207,7 @@ fn run(
             monte_carlo: w.mc,
             birge_sponer: w.bs,
             leroy_bernstein: w.lb,
+            expansion: w.expansion,
         };
         match &w.nominal {
             Nominal::Limit(l) => {
@@ -1562,6 +1574,10 @@ struct NdeSetup<'a> {
     zero_point: &'a Lin,
     /// σ factor of an estimate from its own χ²_ν, in the effective covariance's terms.
     scale_of: &'a dyn Fn(f64) -> f64,
+    /// The effective covariance of the data vector (`None` when σ is not estimable).
+    cov: Option<&'a DMatrix<f64>>,
+    /// Reduced mass, u (for C_n from X0).
+    mu_u: Option<f64>,
 }
 
 /// The near-dissociation expansion fitted to all levels: X0 free, and X0 fixed from a given C_n.
@@ -1605,6 +1621,7 @@ fn nde_works(s: &NdeSetup) -> Vec<Work> {
                 nominal: Nominal::NoLimit(String::new()),
                 bs: None,
                 lb: None,
+                expansion: None,
                 estimator: None,
                 mc: None,
                 curve: None,
@@ -1653,6 +1670,7 @@ fn nde_works(s: &NdeSetup) -> Vec<Work> {
                 e0: s.e0_x.clone(),
                 ..s.ctx.clone()
             };
+            work.expansion = Some(expansion_details(s, &f, rel));
             work.estimator = nde::NdeEstimator::new(&input, s.n, &f, x0, &ctx_x)
                 .map(|e| Box::new(e) as Box<dyn Redraw>);
             let (d, vd, x0v, p) = (f.fit.d_cm1, f.fit.v_d, f.fit.x0_cm1, f.fit.p.clone());
@@ -1679,6 +1697,46 @@ fn nde_works(s: &NdeSetup) -> Vec<Work> {
             work
         })
         .collect()
+}
+
+/// The expansion's parameters with σ (scaled by the fit's own χ²_ν as its D0 is) and the orders
+/// tried. C_n ∝ X0^{−(n−2)/2} (inverting X0 of LeRoy & Bernstein 1970, from memory), so its
+/// relative σ is (n − 2)/2 times that of X0.
+fn expansion_details(s: &NdeSetup, f: &nde::NdeFit, rel: f64) -> ExpansionDetails {
+    let sig = |l: &Lin| vs(&l.grad_scaled(rel), s.cov);
+    let x0 =
+        f.x0.as_ref()
+            .map_or(ValueSigma::new(f.fit.x0_cm1, None), sig);
+    let cn = s.mu_u.filter(|_| f.fit.x0_cm1 > 0.0).map(|mu| {
+        let c = nd::cn_from_x0(s.n, f.fit.x0_cm1, mu);
+        let rel_x0 = x0.sigma.map(|sx| sx / f.fit.x0_cm1);
+        ValueSigma::new(c, rel_x0.map(|r| 0.5 * (s.n - 2.0) * r * c))
+    });
+    let au = nd::cn_to_atomic_units(s.n, 1.0);
+    ExpansionDetails {
+        n: s.n,
+        cn_fixed: f.x0_fixed,
+        order: f.order,
+        d_cm1: sig(&f.d),
+        v_d: sig(&f.v_d),
+        x0_cm1: x0,
+        cn_au: cn
+            .as_ref()
+            .map(|c| ValueSigma::new(c.value * au, c.sigma.map(|x| x * au))),
+        cn_cm1_an: cn,
+        p: f.fit.p.clone(),
+        chi2: f.fit.chi2,
+        dof: f.fit.dof,
+        orders: f
+            .orders
+            .iter()
+            .map(|(order, aicc, why)| ExpansionOrder {
+                order: *order,
+                aicc: *aicc,
+                rejected: why.clone(),
+            })
+            .collect(),
+    }
 }
 
 fn spacing_evidence(w: &LevelView) -> (Option<Lin>, Option<f64>) {

@@ -243,11 +243,52 @@ pub struct LbDetails {
     pub iterations: Option<usize>,
 }
 
+/// One correction order tried by the near-dissociation expansion.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ExpansionOrder {
+    /// Correction order L.
+    pub order: usize,
+    /// AICc of its fit (null when too few levels for it).
+    pub aicc: Option<f64>,
+    /// Why it was not acceptable (null when it was).
+    pub rejected: Option<String>,
+}
+
+/// Near-dissociation expansion details.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ExpansionDetails {
+    /// Long-range exponent n (given).
+    pub n: f64,
+    /// Whether X0 was fixed from a given C_n.
+    pub cn_fixed: bool,
+    /// Chosen correction order L.
+    pub order: usize,
+    /// Asymptote D on the data's energy scale, cm⁻¹.
+    pub d_cm1: ValueSigma,
+    /// v_D.
+    pub v_d: ValueSigma,
+    /// X0, cm⁻¹ (σ null when fixed).
+    pub x0_cm1: ValueSigma,
+    /// C_n from X0, cm⁻¹ Åⁿ (needs μ; σ null when fixed).
+    pub cn_cm1_an: Option<ValueSigma>,
+    /// C_n from X0, E_h a0ⁿ (needs μ).
+    pub cn_au: Option<ValueSigma>,
+    /// Correction coefficients p1 … pL of x = v_D − v.
+    pub p: Vec<f64>,
+    /// χ² of the fit (with the data covariance).
+    pub chi2: f64,
+    /// Degrees of freedom.
+    pub dof: usize,
+    /// Every order tried, with its AICc and why it was rejected.
+    pub orders: Vec<ExpansionOrder>,
+}
+
 /// One estimate of the dissociation limit.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Estimate {
     /// Method: `observed-sum`, `birge-sponer-linear`, `birge-sponer-curved`, `leroy-bernstein`,
-    /// `leroy-bernstein-n-free`, `leroy-bernstein-alt-levels`, `leroy-bernstein-cn-fixed`.
+    /// `leroy-bernstein-n-free`, `leroy-bernstein-alt-levels`, `leroy-bernstein-cn-fixed`,
+    /// `near-dissociation-expansion`, `near-dissociation-expansion-cn-fixed`.
     pub method: String,
     /// Human-readable label.
     pub label: String,
@@ -285,6 +326,9 @@ pub struct Estimate {
     pub birge_sponer: Option<BsDetails>,
     /// Near-dissociation details.
     pub leroy_bernstein: Option<LbDetails>,
+    /// Near-dissociation expansion details.
+    #[serde(default)]
+    pub expansion: Option<ExpansionDetails>,
 }
 
 /// Monte Carlo settings as run.
@@ -481,6 +525,50 @@ fn gsig(x: f64) -> String {
     } else {
         format!("{x:.6e}")
     }
+}
+
+/// The near-dissociation expansion's parameters and the correction orders it tried.
+fn render_expansion(s: &mut String, x: &ExpansionDetails) {
+    use std::fmt::Write;
+    let _ = writeln!(
+        s,
+        "      n = {} (given), correction order L = {}{}",
+        x.n,
+        x.order,
+        if x.cn_fixed {
+            ", X0 fixed from the given C_n"
+        } else {
+            ""
+        }
+    );
+    let _ = writeln!(
+        s,
+        "      D (asymptote, data scale) = {}   v_D = {}   X0 = {}",
+        pm(Some(x.d_cm1.value), x.d_cm1.sigma, 4),
+        pm(Some(x.v_d.value), x.v_d.sigma, 4),
+        pm(Some(x.x0_cm1.value), x.x0_cm1.sigma, 6)
+    );
+    if let Some(c) = &x.cn_cm1_an {
+        let _ = writeln!(
+            s,
+            "      C_n = {} cm⁻¹Åⁿ = {} E_h a0ⁿ",
+            pm(Some(c.value), c.sigma, 1),
+            x.cn_au
+                .as_ref()
+                .map(|a| pm(Some(a.value), a.sigma, 3))
+                .unwrap_or("—".into())
+        );
+    }
+    let tried: Vec<String> = x
+        .orders
+        .iter()
+        .map(|o| match (&o.rejected, o.aicc) {
+            (Some(why), _) => format!("L={} not used ({why})", o.order),
+            (None, Some(a)) => format!("L={} AICc {a:.2}", o.order),
+            (None, None) => format!("L={}", o.order),
+        })
+        .collect();
+    let _ = writeln!(s, "      orders tried: {}", tried.join("; "));
 }
 
 /// Render a report as readable plain text.
@@ -711,6 +799,9 @@ pub fn render_text(r: &Report) -> String {
                     pm(Some(b.value), b.sigma, 4)
                 );
             }
+        }
+        if let Some(x) = &e.expansion {
+            render_expansion(&mut s, x);
         }
         if let Some(bs) = &e.birge_sponer
             && let (Some(a), Some(b)) = (&bs.line_intercept_cm1, &bs.line_slope_cm1)

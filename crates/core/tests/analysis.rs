@@ -336,6 +336,52 @@ fn pure_tail_recovers_limit_and_cn() {
         let free = est(&r, "leroy-bernstein-n-free");
         let fd = free.leroy_bernstein.as_ref().expect("free");
         check(&format!("n={n} fitted n"), fd.n.value, n, 1e-6);
+        // The expansion fitted to all levels holds the pure tail at order 0 (its correction
+        // vanishes), so it recovers the same closed-form D, v_D, X0 and C_n.
+        let x = est(&r, "near-dissociation-expansion")
+            .expansion
+            .as_ref()
+            .expect("expansion details");
+        assert_eq!(x.order, 0, "n={n} expansion order");
+        assert!(
+            x.orders
+                .iter()
+                .any(|o| o.order == 0 && o.rejected.is_none())
+        );
+        check(
+            &format!("n={n} expansion D"),
+            x.d_cm1.value,
+            f(&e["d_cm1"]),
+            1e-8,
+        );
+        check(
+            &format!("n={n} expansion v_D"),
+            x.v_d.value,
+            f(&e["v_d"]),
+            1e-8,
+        );
+        check(
+            &format!("n={n} expansion X0"),
+            x.x0_cm1.value,
+            f(&e["x0_cm1"]),
+            1e-7,
+        );
+        let cn = x.cn_cm1_an.as_ref().expect("expansion C_n");
+        check(
+            &format!("n={n} expansion C_n"),
+            cn.value,
+            f(&e["cn_cm1_an"]),
+            1e-7,
+        );
+        // σ(C_n)/C_n = (n − 2)/2 · σ(X0)/X0 (C_n ∝ X0^{−(n−2)/2}).
+        if let (Some(sc), Some(sx)) = (cn.sigma, x.x0_cm1.sigma) {
+            check(
+                &format!("n={n} σ(C_n)"),
+                sc / cn.value,
+                0.5 * (n - 2.0) * sx / x.x0_cm1.value,
+                1e-12,
+            );
+        }
     }
 }
 

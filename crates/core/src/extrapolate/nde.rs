@@ -387,6 +387,8 @@ pub struct NdeFit {
     pub d: Lin,
     /// v_D with its gradient.
     pub v_d: Lin,
+    /// X0 with its gradient when fitted (`None` when held fixed).
+    pub x0: Option<Lin>,
     /// Chosen correction order L.
     pub order: usize,
     /// X0 held fixed from a theoretical C_n.
@@ -446,12 +448,13 @@ pub fn fit(input: &LbInput, n: f64, x0_fixed: Option<f64>) -> Result<NdeFit, Str
         scale,
         x0_fixed,
     };
-    let (d, v_d) = gradients(input, &w, n, &design, &f, &theta)
+    let (d, v_d, x0) = gradients(input, &w, n, &design, &f, &theta)
         .ok_or("the expansion's parameters are not determined by these levels")?;
     Ok(NdeFit {
         fit: f,
         d,
         v_d,
+        x0,
         order,
         x0_fixed: x0_fixed.is_some(),
         orders,
@@ -459,7 +462,8 @@ pub fn fit(input: &LbInput, n: f64, x0_fixed: Option<f64>) -> Result<NdeFit, Str
     })
 }
 
-/// D and v_D as linear functions of the data: the Gauss–Newton sensitivity at the optimum.
+/// D, v_D and (when fitted) X0 as linear functions of the data: the Gauss–Newton sensitivity at
+/// the optimum.
 fn gradients(
     input: &LbInput,
     w: &Whitener,
@@ -467,7 +471,7 @@ fn gradients(
     design: &Design,
     f: &NdeProfileFit,
     theta: &DVector<f64>,
-) -> Option<(Lin, Lin)> {
+) -> Option<(Lin, Lin, Option<Lin>)> {
     let m = input.v.len();
     let k = design.k();
     // Jacobian of the model G(v) with respect to (θ_lin, v_D): the linear columns are the
@@ -506,7 +510,12 @@ fn gradients(
         value: f.v_d,
         grad: to_y(k),
     };
-    (d.grad.iter().chain(v_d.grad.iter()).all(|g| g.is_finite())).then_some((d, v_d))
+    let x0 = design.x0_fixed.is_none().then(|| Lin {
+        value: f.x0_cm1,
+        grad: to_y(1),
+    });
+    let finite = |l: &Lin| l.grad.iter().all(|g| g.is_finite());
+    (finite(&d) && finite(&v_d) && x0.as_ref().is_none_or(finite)).then_some((d, v_d, x0))
 }
 
 /// The whitening operator as a dense matrix.
