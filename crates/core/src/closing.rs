@@ -11,14 +11,13 @@
 //!
 //! What each number rests on is stated in [`PotentialOut::method`] and [`PotentialOut::note`].
 
-use serde::{Deserialize, Serialize};
-
 use crate::data::Level;
 use crate::potential::Potential;
-use crate::potential::compare::{Alignment, LoopCheck, Verdict, rkr_loop_check};
-use crate::potential::rkr::{RkrInput, RkrPoint, RotationInput, rkr_turning_points};
+use crate::potential::compare::{Alignment, Verdict, rkr_loop_check};
+use crate::potential::rkr::{RkrInput, RotationInput, rkr_turning_points};
 use crate::potential::walls::OuterWall;
 use crate::report::Report;
+pub use crate::report::{LevelOfCurve, PotentialOut};
 
 /// Most wavefunctions kept for the figure.
 const MAX_WAVEFUNCTIONS: usize = 8;
@@ -26,48 +25,6 @@ const MAX_WAVEFUNCTIONS: usize = 8;
 const WAVEFUNCTION_SAMPLES: usize = 120;
 /// Samples of the potential curve.
 const CURVE_SAMPLES: usize = 240;
-
-/// A level of the potential with its wavefunction samples (for the figure).
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct LevelOfCurve {
-    /// Vibrational quantum number.
-    pub v: u32,
-    /// Energy above the potential minimum, cm⁻¹.
-    pub energy_cm1: f64,
-    /// B_v = (C_u/μ)⟨1/r²⟩, cm⁻¹.
-    pub b_v_cm1: f64,
-    /// Inner turning point, Å.
-    pub r_inner_angstrom: f64,
-    /// Outer turning point, Å.
-    pub r_outer_angstrom: f64,
-    /// Estimated numerical error of the energy, cm⁻¹.
-    pub error_estimate_cm1: f64,
-    /// (r in Å, ψ in Å^−½) samples, for a few levels only.
-    pub wavefunction: Option<Vec<[f64; 2]>>,
-}
-
-/// The potential built from the analysis and its check against the data.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct PotentialOut {
-    /// How the curve was built.
-    pub method: String,
-    /// What the curve and the check rest on.
-    pub note: String,
-    /// Equilibrium distance √(C_u/(μ B(v_min))), Å.
-    pub re_angstrom: f64,
-    /// RKR turning points at the observed v.
-    pub turning_points: Vec<RkrPoint>,
-    /// (r in Å, V in cm⁻¹ above the minimum) samples of the curve, extensions included.
-    pub curve: Vec<[f64; 2]>,
-    /// Levels found by the solver.
-    pub levels: Vec<LevelOfCurve>,
-    /// Observed − calculated levels and B_v.
-    pub check: LoopCheck,
-    /// The lowest v at which the inner wall turns over (a sign of an inconsistent G or B).
-    pub inner_turnover_v: Option<f64>,
-    /// Warnings from the RKR construction.
-    pub warnings: Vec<String>,
-}
 
 /// Build the RKR potential of a single-state report and check it against `observed`.
 ///

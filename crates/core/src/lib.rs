@@ -16,6 +16,7 @@ pub mod bands;
 pub mod closing;
 pub mod constants;
 pub mod data;
+pub mod document;
 pub mod dunham;
 pub mod error;
 pub mod examples;
@@ -38,6 +39,7 @@ pub mod settings;
 mod sorting;
 pub mod spacings;
 pub mod units;
+pub mod value;
 
 pub use analysis::{analyze_levels, analyze_spacings};
 pub use bands::{BandReport, analyze_bands, render_band_text};

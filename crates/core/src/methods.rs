@@ -4,20 +4,11 @@
 //! References are standard citations of the methods used; those not checked against the source
 //! text here are from memory (marked in the comments beside them).
 
-use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 
-use crate::pipeline::Analysis;
+use crate::document::Analysis;
+pub use crate::report::Methods;
 use crate::report::Report;
-
-/// A methods paragraph and its references.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct Methods {
-    /// One paragraph of prose.
-    pub paragraph: String,
-    /// References cited in the paragraph, numbered in order of citation (`[1]`, `[2]`, …).
-    pub references: Vec<String>,
-}
 
 // Citations. LeRoy–Bernstein: checked against the source abstract (domain notes); the others
 // are standard citations given from memory.

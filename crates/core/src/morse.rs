@@ -9,7 +9,7 @@
 use serde::{Deserialize, Serialize};
 
 use crate::constants::{ATOMIC_MASS_KG, C_U_CM1_U_A2, SPEED_OF_LIGHT_M_S};
-use crate::report::ValueSigma;
+use crate::value::ValueSigma;
 
 /// Morse De = ωe²/(4ωexe), cm⁻¹; `None` unless ωexe > 0.
 pub fn de_cm1(we_cm1: f64, wexe_cm1: f64) -> Option<f64> {

@@ -11,31 +11,66 @@ use crate::dunham::{DataKind, OrderSelection};
 use crate::extrapolate::lm::Termination;
 use crate::montecarlo::McResult;
 use crate::morse::MorseParams;
+use crate::potential::compare::LoopCheck;
+use crate::potential::rkr::RkrPoint;
 use crate::recommend::Recommended;
 use crate::settings::{AnalysisSettings, SigmaScaling};
+pub use crate::value::ValueSigma;
 
 /// Name of the document format.
 pub const REPORT_FORMAT: &str = "rungs-analysis";
 /// Version of the document format; bumped on any incompatible change of field names or meaning.
 pub const REPORT_FORMAT_VERSION: u32 = 2;
 
-/// A value with its standard uncertainty (null when not estimable).
+/// A level of the potential with its wavefunction samples (for the figure).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct ValueSigma {
-    /// Value.
-    pub value: f64,
-    /// One-standard-deviation uncertainty; null when not estimable.
-    pub sigma: Option<f64>,
+pub struct LevelOfCurve {
+    /// Vibrational quantum number.
+    pub v: u32,
+    /// Energy above the potential minimum, cm⁻¹.
+    pub energy_cm1: f64,
+    /// B_v = (C_u/μ)⟨1/r²⟩, cm⁻¹.
+    pub b_v_cm1: f64,
+    /// Inner turning point, Å.
+    pub r_inner_angstrom: f64,
+    /// Outer turning point, Å.
+    pub r_outer_angstrom: f64,
+    /// Estimated numerical error of the energy, cm⁻¹.
+    pub error_estimate_cm1: f64,
+    /// (r in Å, ψ in Å^−½) samples, for a few levels only.
+    pub wavefunction: Option<Vec<[f64; 2]>>,
 }
 
-impl ValueSigma {
-    /// Construct (a non-finite σ becomes null).
-    pub fn new(value: f64, sigma: Option<f64>) -> Self {
-        Self {
-            value,
-            sigma: sigma.filter(|s| s.is_finite()),
-        }
-    }
+/// The potential built from the analysis and its check against the data.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PotentialOut {
+    /// How the curve was built.
+    pub method: String,
+    /// What the curve and the check rest on.
+    pub note: String,
+    /// Equilibrium distance √(C_u/(μ B(v_min))), Å.
+    pub re_angstrom: f64,
+    /// RKR turning points at the observed v.
+    pub turning_points: Vec<RkrPoint>,
+    /// (r in Å, V in cm⁻¹ above the minimum) samples of the curve, extensions included.
+    pub curve: Vec<[f64; 2]>,
+    /// Levels found by the solver.
+    pub levels: Vec<LevelOfCurve>,
+    /// Observed − calculated levels and B_v.
+    pub check: LoopCheck,
+    /// The lowest v at which the inner wall turns over (a sign of an inconsistent G or B).
+    pub inner_turnover_v: Option<f64>,
+    /// Warnings from the RKR construction.
+    pub warnings: Vec<String>,
+}
+
+/// A methods paragraph and its references.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Methods {
+    /// One paragraph of prose.
+    pub paragraph: String,
+    /// References cited in the paragraph, numbered in order of citation (`[1]`, `[2]`, …).
+    pub references: Vec<String>,
 }
 
 /// A fitted constant with its uncertainty in the three readings.
@@ -452,7 +487,7 @@ pub struct Report {
     /// The RKR potential built from the constants and the given B_v, its levels, and the
     /// observed − calculated check (from [`crate::pipeline`]; see [`crate::closing`]).
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub potential: Option<crate::closing::PotentialOut>,
+    pub potential: Option<PotentialOut>,
     /// Why there is no potential curve.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub potential_note: Option<String>,
@@ -464,7 +499,7 @@ pub struct Report {
     pub input_sha256: Option<String>,
     /// A methods paragraph naming the published methods used, with references.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub methods: Option<crate::methods::Methods>,
+    pub methods: Option<Methods>,
     /// The session that produced this report: input text, reading choices, settings. Present
     /// when the analysis started from a session, so the document can be re-imported.
     #[serde(default, skip_serializing_if = "Option::is_none")]

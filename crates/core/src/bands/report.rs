@@ -321,7 +321,7 @@ pub struct BandReport {
     pub input_sha256: Option<String>,
     /// A methods paragraph naming the published methods used, with references.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub methods: Option<crate::methods::Methods>,
+    pub methods: Option<crate::report::Methods>,
     /// The session that produced this document.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub session: Option<crate::session::Session>,
