@@ -283,7 +283,7 @@ pub struct LbDetails {
 pub struct ExpansionOrder {
     /// Correction order L.
     pub order: usize,
-    /// AICc of its fit (null when too few levels for it).
+    /// AICc of its fit (null when the order was not used, or too few levels for it).
     pub aicc: Option<f64>,
     /// Why it was not acceptable (null when it was).
     pub rejected: Option<String>,

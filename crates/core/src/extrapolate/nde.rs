@@ -393,7 +393,7 @@ pub struct NdeFit {
     pub order: usize,
     /// X0 held fixed from a theoretical C_n.
     pub x0_fixed: bool,
-    /// (L, AICc, why rejected) for every order tried.
+    /// (L, AICc of an acceptable fit, why rejected) for every order tried.
     pub orders: Vec<(usize, Option<f64>, Option<String>)>,
     /// Scale S of the correction variable.
     pub scale: f64,
@@ -438,7 +438,11 @@ pub fn fit(input: &LbInput, n: f64, x0_fixed: Option<f64>) -> Result<NdeFit, Str
         {
             best = Some((a, l, f.clone(), theta));
         }
-        orders.push((l, a, why));
+        // A rejected order's AICc is not reported: nothing uses it, and an unphysical fit sits in
+        // a flat, many-minima χ² landscape where builds with different math libraries settle on
+        // different minima.
+        let shown = if why.is_none() { a } else { None };
+        orders.push((l, shown, why));
     }
     let Some((_, order, f, theta)) = best else {
         return Err("no order of the expansion gives a physical fit to these levels".into());
