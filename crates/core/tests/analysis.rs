@@ -336,6 +336,20 @@ fn pure_tail_recovers_limit_and_cn() {
         let free = est(&r, "leroy-bernstein-n-free");
         let fd = free.leroy_bernstein.as_ref().expect("free");
         check(&format!("n={n} fitted n"), fd.n.value, n, 1e-6);
+        // Each method that ran states what it rests on, with the n in force (wiring check of the
+        // estimators' assumptions into the report).
+        for what in [
+            "polynomial extrapolation",
+            "near-dissociation fits",
+            "near-dissociation expansion",
+        ] {
+            assert!(
+                r.assumptions.iter().any(|a| a.contains(what)
+                    && (what.contains("polynomial") || a.contains(&format!("n = {n}")))),
+                "n={n}: no assumption for the {what}: {:?}",
+                r.assumptions
+            );
+        }
         // The expansion fitted to all levels holds the pure tail at order 0 (its correction
         // vanishes), so it recovers the same closed-form D, v_D, X0 and C_n.
         let x = est(&r, "near-dissociation-expansion")

@@ -59,7 +59,10 @@ impl Estimator for Expansion {
     }
 
     fn assumption(&self, _p: &Prepared) -> Option<String> {
-        None
+        Some(format!(
+            "the near-dissociation expansion assumes all levels lie on one curve that approaches the limit as the long-range form D − C_n/Rⁿ with n = {} dictates, the lower levels departing from it by a polynomial in v_D − v",
+            self.n
+        ))
     }
 
     fn what(&self, _p: &Prepared) -> String {
