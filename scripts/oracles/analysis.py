@@ -163,15 +163,30 @@ def pure_tail_fixtures():
         if n in DOMAIN_AU:
             # domain.md lists CODATA 2018 factors; 2022 differs in the 7th-8th digit
             assert close(au, DOMAIN_AU[n], 2e-7), (n, au)
-        cases.append({
-            "n": n, "mu_u": mu, "levels": levels,
-            "expected": {"d_cm1": d, "v_d": v_d, "x0_cm1": x0, "cn_cm1_an": cn, "cn_au": cn / au,
-                         "kbar": kbar, "f_n": f_n, "p_n": p_n, "n_bound": math.floor(v_d) + 1},
-        })
+        expected = {"d_cm1": d, "v_d": v_d, "x0_cm1": x0, "cn_cm1_an": cn, "cn_au": cn / au,
+                    "kbar": kbar, "f_n": f_n, "p_n": p_n, "n_bound": math.floor(v_d) + 1}
+        if n == 6:
+            # Mean and s-wave scattering length of the C6 tail, Gribakin & Flambaum, Phys. Rev. A
+            # 48, 546 (1993) (from memory): abar = cos(pi/(n-2)) [sqrt(2 mu C_n)/hbar/(n-2)]^(2/(n-2))
+            # Gamma((n-3)/(n-2))/Gamma((n-1)/(n-2)); a = abar [1 - tan(pi/(n-2)) tan(Phi - pi/(2(n-2)))],
+            # Phi = pi (v_D + 1/2). sqrt(2 mu C_n)/hbar = sqrt(mu C_n / C_u) in these units.
+            k = n - 2
+            abar = (math.cos(math.pi / k) * (math.sqrt(mu * cn / C_U) / k) ** (2 / k)
+                    * ss.gamma((n - 3) / k) / ss.gamma((n - 1) / k))
+            # The n = 6 prefactor, 0.4779888 (mu C6/C_u)^(1/4) (domain notes, V-calc).
+            assert close(abar, 0.4779888 * (mu * cn / C_U) ** 0.25, 1e-6), abar
+            phi = math.pi * (v_d + 0.5)
+            a = abar * (1 - math.tan(math.pi / k) * math.tan(phi - math.pi / (2 * k)))
+            expected["abar_angstrom"] = abar
+            expected["scattering_length_angstrom"] = a
+            expected["scattering_length_a0"] = a / BOHR_A
+        cases.append({"n": n, "mu_u": mu, "levels": levels, "expected": expected})
     write("pure_tail.json", {
         "source": "LeRoy–Bernstein closed form, domain.md §1.5/§2.4a; Kbar_n with scipy.special.gamma "
                   "(F_n, P_n checked against domain.md's table); atomic-unit factor E_h a0^n from "
-                  "scipy.constants (CODATA 2022); tolerance 1e-8 relative",
+                  "scipy.constants (CODATA 2022); n = 6 mean and s-wave scattering length by the formula "
+                  "of Gribakin & Flambaum, Phys. Rev. A 48, 546 (1993) with scipy.special.gamma; "
+                  "tolerance 1e-8 relative",
         "cases": cases,
     })
 

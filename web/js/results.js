@@ -106,7 +106,22 @@ export class Results {
   renderRecommended(report, u, label) {
     const r = report.recommended;
     const host = clear($('recommended'));
-    if (r.d0_cm1 === null || r.d0_cm1 === undefined) {
+    if (r.d0_determined === false && r.above_top_cm1 !== null && r.above_top_cm1 !== undefined) {
+      // Near-threshold levels: G(0), and so D0, is out of reach; the binding energy of the top
+      // level and the asymptote are the results.
+      host.append(
+        el('p', { class: 'big', id: 'd0-line' },
+          'Binding energy of the highest level = ', el('strong', { id: 'above-top-value' }, this.energy(r.above_top_cm1, null, u)[0]),
+          ` ${label}`),
+        el('p', { id: 'd0-interval' }, `Interval: ${this.energy(r.above_top_low_cm1, null, u)[0]} to ${this.energy(r.above_top_high_cm1, null, u)[0]} ${label}`,
+          r.asymptote_cm1 !== null && r.asymptote_cm1 !== undefined
+            ? ` · asymptote at ${this.energy(r.asymptote_cm1, null, u)[0]} ${label} on the data's energy scale` : '',
+          r.v_d !== null && r.v_d !== undefined ? ` · v_D = ${this.num(r.v_d, null, 3)}` : ''),
+        el('p', {}, 'D0 and De: not determined by these data (they start far above v = 0).',
+          ` · method: ${report.estimates.find((e) => e.method === r.method)?.label ?? r.method}`),
+        el('p', { class: 'reason' }, r.reason),
+        el('p', { class: 'estimate-note' }, report.statement));
+    } else if (r.d0_cm1 === null || r.d0_cm1 === undefined) {
       host.append(el('p', { class: 'big' }, 'No defensible dissociation limit from these data.'), el('p', {}, r.reason));
     } else {
       const [d0, stat] = this.energy(r.d0_cm1, r.sigma_stat_cm1, u);

@@ -61,6 +61,13 @@ pub struct AnalyzeArgs {
     /// Number of top levels used by the near-dissociation fit.
     #[arg(long, value_name = "N")]
     pub lb_top: Option<u32>,
+    /// The dissociation asymptote on the data's energy scale, when known (e.g. from atomic
+    /// data): adds a near-dissociation fit with the asymptote held there (cm⁻¹).
+    #[arg(allow_hyphen_values = true, long, value_name = "E")]
+    pub asymptote: Option<f64>,
+    /// Theoretical C_n in cm⁻¹Åⁿ: adds the near-dissociation fits with C_n held fixed (needs μ).
+    #[arg(allow_hyphen_values = true, long, value_name = "C")]
+    pub cn: Option<f64>,
     /// Bands: the two atoms of an isotopologue tag, e.g. `main=29.0,29.0` or `HCl=1H,35Cl`
     /// (nuclide labels, or masses in u with a decimal point); repeatable.
     #[arg(long = "isotopologue", value_name = "TAG=A,B")]
@@ -156,6 +163,12 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
     }
     if let Some(t) = args.lb_top {
         s.lb_top_levels = Some(t);
+    }
+    if let Some(d) = args.asymptote {
+        s.asymptote_cm1 = Some(d);
+    }
+    if let Some(c) = args.cn {
+        s.lb_cn_cm1_an = Some(c);
     }
     if let Some(mu_u) = args.mu {
         s.mass = Some(MassSpec::ReducedMass { mu_u });

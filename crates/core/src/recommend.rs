@@ -174,6 +174,12 @@ pub struct Evidence {
     pub spacing_ratio: Option<f64>,
     /// Highest observed vibrational level.
     pub v_top: f64,
+    /// Lowest observed vibrational level.
+    pub v_bottom: f64,
+    /// Whether v = 0 is observed.
+    pub e0_observed: bool,
+    /// Energy of the highest observed level on the data's scale, cm⁻¹.
+    pub e_top: Option<f64>,
     /// A theoretical C_n given by the user (cm⁻¹Åⁿ).
     pub cn_theory: Option<f64>,
     /// The long-range exponent the near-dissociation fits assume.
@@ -224,6 +230,27 @@ pub struct Recommended {
     pub spread_methods: Vec<String>,
     /// One-line reason.
     pub reason: String,
+    /// Binding energy of the highest observed level, D0 − observed sum = D − E(v_top): what the
+    /// levels say about the limit without G(0), cm⁻¹.
+    #[serde(default)]
+    pub above_top_cm1: Option<f64>,
+    /// Lower end of its interval (never below 0), cm⁻¹.
+    #[serde(default)]
+    pub above_top_low_cm1: Option<f64>,
+    /// Upper end of its interval, cm⁻¹.
+    #[serde(default)]
+    pub above_top_high_cm1: Option<f64>,
+    /// The asymptote on the data's energy scale, E(v_top) + `above_top_cm1`, cm⁻¹.
+    #[serde(default)]
+    pub asymptote_cm1: Option<f64>,
+    /// Whether D0 and De are stated: false when G(0) would be a long extrapolation below the
+    /// lowest level (the levels start farther above v = 0 than they span).
+    #[serde(default = "yes")]
+    pub d0_determined: bool,
+}
+
+fn yes() -> bool {
+    true
 }
 
 /// Verdict for every candidate plus the recommendation and warnings.
@@ -485,10 +512,11 @@ pub fn assess(cands: &[Candidate], cov_eff: Option<&DMatrix<f64>>, ev: &Evidence
     // When no model describes the data, fit quality cannot choose among them: the model
     // uncertainty spans every estimate that is physical, admitted or not.
     let model_set = if adm.fallback { &adm.physical } else { &spread };
-    let recommended = match prefer(cands, &defensible, ev) {
+    let mut recommended = match prefer(cands, &defensible, ev) {
         None => none_recommended(),
         Some((i, basis)) => recommend_from(cands, model_set, (i, basis), ev),
     };
+    near_threshold_view(&mut recommended, ev);
     if let Some(cov) = cov_eff {
         disagreement_warnings(cands, &spread, cov, &mut warnings);
     }
@@ -516,6 +544,11 @@ fn none_recommended() -> Recommended {
         n_bound_max: None,
         spread_methods: vec![],
         reason: "no method gives a defensible dissociation limit for these data (see each estimate's reason)".into(),
+        above_top_cm1: None,
+        above_top_low_cm1: None,
+        above_top_high_cm1: None,
+        asymptote_cm1: None,
+        d0_determined: true,
     }
 }
 
@@ -577,7 +610,40 @@ fn recommend_from(
         n_bound_max: v_hi.map(count),
         spread_methods: model_set.iter().map(|&j| cands[j].method.clone()).collect(),
         reason: reason_for(c, ev, basis, d0s.len() < 2),
+        above_top_cm1: None,
+        above_top_low_cm1: None,
+        above_top_high_cm1: None,
+        asymptote_cm1: None,
+        d0_determined: true,
     }
+}
+
+/// The binding energy of the top level and the asymptote (G(0) cancels from D0 − observed sum),
+/// and — when G(0) would be extrapolated farther below the lowest level than the levels span —
+/// D0 and De withdrawn: the data do not determine them.
+fn near_threshold_view(rec: &mut Recommended, ev: &Evidence) {
+    if let (Some(obs), Some(d0)) = (&ev.observed, rec.d0_cm1) {
+        rec.above_top_cm1 = Some(d0 - obs.value);
+        rec.above_top_low_cm1 = rec.d0_low_cm1.map(|l| (l - obs.value).max(0.0));
+        rec.above_top_high_cm1 = rec.d0_high_cm1.map(|h| h - obs.value);
+        rec.asymptote_cm1 = ev.e_top.map(|e| e + d0 - obs.value);
+    }
+    let span = ev.v_top - ev.v_bottom;
+    if ev.e0_observed || ev.v_bottom <= span || rec.d0_cm1.is_none() {
+        return;
+    }
+    rec.d0_determined = false;
+    rec.d0_cm1 = None;
+    rec.de_cm1 = None;
+    rec.sigma_stat_cm1 = None;
+    rec.sigma_model_cm1 = None;
+    rec.sigma_stat_source = None;
+    rec.d0_low_cm1 = None;
+    rec.d0_high_cm1 = None;
+    rec.reason = format!(
+        "D0 and De are not determined by these data: the levels start at v = {}, farther above v = 0 than they span, so G(0) would be the fitted polynomial extrapolated over {} levels; the binding energy of the highest level and the asymptote do not need G(0). Method: {}",
+        ev.v_bottom, ev.v_bottom, rec.reason
+    );
 }
 
 fn disagreement_warnings(
@@ -646,6 +712,9 @@ mod tests {
             top_curvature: None,
             spacing_ratio: Some(ratio),
             v_top: 18.0,
+            v_bottom: 0.0,
+            e0_observed: true,
+            e_top: None,
             cn_theory: None,
             lb_n: 6.0,
             selected_order: 3,

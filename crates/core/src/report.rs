@@ -276,6 +276,18 @@ pub struct LbDetails {
     pub termination: Option<Termination>,
     /// Solver iterations.
     pub iterations: Option<usize>,
+    /// The asymptote was given (held fixed), not fitted.
+    #[serde(default)]
+    pub asymptote_known: bool,
+    /// v_D mod 1: unchanged by an integer shift of the numbering.
+    #[serde(default)]
+    pub v_d_fraction: Option<f64>,
+    /// s-wave scattering length from v_D and C_6, Å (n = 6, needs μ).
+    #[serde(default)]
+    pub scattering_length_angstrom: Option<ValueSigma>,
+    /// The same in bohr (a0).
+    #[serde(default)]
+    pub scattering_length_a0: Option<ValueSigma>,
 }
 
 /// One correction order tried by the near-dissociation expansion.
@@ -827,6 +839,26 @@ pub fn render_text(r: &Report) -> String {
                         .unwrap_or("—".into())
                 );
             }
+            if lb.asymptote_known {
+                let _ = writeln!(s, "      asymptote held at the given value");
+            }
+            if let Some(fr) = lb.v_d_fraction {
+                let _ = writeln!(
+                    s,
+                    "      v_D mod 1 = {fr:.4} (unchanged by an integer shift of the numbering)"
+                );
+            }
+            if let Some(a) = &lb.scattering_length_a0 {
+                let _ = writeln!(
+                    s,
+                    "      s-wave scattering length (from v_D and C_6) = {} a0 = {} Å",
+                    pm(Some(a.value), a.sigma, 2),
+                    lb.scattering_length_angstrom
+                        .as_ref()
+                        .map(|x| pm(Some(x.value), x.sigma, 3))
+                        .unwrap_or("—".into())
+                );
+            }
             if let Some(b) = &lb.top_binding_cm1 {
                 let _ = writeln!(
                     s,
@@ -883,6 +915,29 @@ pub fn render_text(r: &Report) -> String {
                     s,
                     "  v_D = {v:.3} (interval {lo:.3} … {hi:.3}); bound levels: {count}"
                 );
+            }
+            let _ = writeln!(s, "  admitted estimates: {}", rec.spread_methods.join(", "));
+        }
+        (Some(m), None) if !rec.d0_determined => {
+            let _ = writeln!(
+                s,
+                "  D0, De: not determined by these data (see the reason)   [{m}]"
+            );
+            if let (Some(b), Some(lo), Some(hi)) = (
+                rec.above_top_cm1,
+                rec.above_top_low_cm1,
+                rec.above_top_high_cm1,
+            ) {
+                let _ = writeln!(
+                    s,
+                    "  binding energy of the highest level: {b:.4} cm⁻¹ (interval {lo:.4} … {hi:.4})"
+                );
+            }
+            if let Some(a) = rec.asymptote_cm1 {
+                let _ = writeln!(s, "  asymptote on the data's energy scale: {a:.4} cm⁻¹");
+            }
+            if let (Some(v), Some(lo), Some(hi)) = (rec.v_d, rec.v_d_low, rec.v_d_high) {
+                let _ = writeln!(s, "  v_D = {v:.3} (interval {lo:.3} … {hi:.3})");
             }
             let _ = writeln!(s, "  admitted estimates: {}", rec.spread_methods.join(", "));
         }

@@ -98,6 +98,11 @@ pub struct AnalysisSettings {
     /// Theoretical C_n (cm⁻¹ Åⁿ) for a near-dissociation fit with C_n held fixed; needs μ.
     #[serde(default)]
     pub lb_cn_cm1_an: Option<f64>,
+    /// The dissociation asymptote on the data's energy scale (cm⁻¹) when it is known — from
+    /// atomic data, or 0 for binding energies below it: the near-dissociation fit with the
+    /// asymptote held there gives v_D and C_n without extrapolating the limit.
+    #[serde(default)]
+    pub asymptote_cm1: Option<f64>,
     /// When statistical uncertainties are scaled by √χ²_ν.
     #[serde(default)]
     pub sigma_scaling: SigmaScaling,
@@ -221,6 +226,7 @@ impl Default for AnalysisSettings {
             max_order: DEFAULT_MAX_ORDER,
             lb_fit_n_free: true,
             lb_cn_cm1_an: None,
+            asymptote_cm1: None,
             sigma_scaling: SigmaScaling::WhenAboveOne,
             curved_max_extrapolation: default_curved_max_extrapolation(),
             near_dissociation_coverage: default_near_dissociation_coverage(),

@@ -336,6 +336,80 @@ fn pure_tail_recovers_limit_and_cn() {
         let free = est(&r, "leroy-bernstein-n-free");
         let fd = free.leroy_bernstein.as_ref().expect("free");
         check(&format!("n={n} fitted n"), fd.n.value, n, 1e-6);
+        // These levels start at v = 12 and span 8: G(0) would be extrapolated over 12 levels, so
+        // D0 is withdrawn and the binding energy of the top level (exact: D − E(v_top)) is stated
+        // with an interval that holds it.
+        let rec = &r.recommended;
+        assert!(!rec.d0_determined && rec.d0_cm1.is_none() && rec.de_cm1.is_none(), "n={n}");
+        let top = case["levels"].as_array().expect("levels").last().expect("a level");
+        let true_above = f(&e["d_cm1"]) - f(&top["energy_cm1"]);
+        let (lo, hi) = (
+            rec.above_top_low_cm1.expect("low"),
+            rec.above_top_high_cm1.expect("high"),
+        );
+        assert!(lo <= true_above && true_above <= hi, "n={n}: {true_above} not in [{lo}, {hi}]");
+        let asym = rec.asymptote_cm1.expect("asymptote");
+        assert!((asym - f(&e["d_cm1"])).abs() <= hi - lo, "n={n}: asymptote {asym}");
+        // With the asymptote given, the fit with it held fixed recovers v_D, X0 and C_n of the
+        // closed form, v_D mod 1, and (n = 6) the scattering length of Gribakin & Flambaum's
+        // formula evaluated by the oracle at the true v_D and C_6.
+        let known = analyze_levels(
+            &levels_of(&case["levels"]),
+            None,
+            case["mu_u"].as_f64(),
+            &AnalysisSettings {
+                asymptote_cm1: Some(f(&e["d_cm1"])),
+                ..settings.clone()
+            },
+        )
+        .expect("analysis with the asymptote given");
+        let k = est(&known, "leroy-bernstein-known-asymptote");
+        let kd = k.leroy_bernstein.as_ref().expect("details");
+        assert!(kd.asymptote_known, "n={n}");
+        let dk = kd.d_cm1.as_ref().expect("D");
+        assert_eq!((dk.value, dk.sigma), (f(&e["d_cm1"]), None), "n={n} D held");
+        check(
+            &format!("n={n} known-D v_D"),
+            k.v_d.expect("v_D"),
+            f(&e["v_d"]),
+            1e-9,
+        );
+        check(
+            &format!("n={n} known-D X0"),
+            kd.x0_cm1.as_ref().expect("X0").value,
+            f(&e["x0_cm1"]),
+            1e-8,
+        );
+        check(
+            &format!("n={n} known-D C_n"),
+            kd.cn_cm1_an.as_ref().expect("C_n").value,
+            f(&e["cn_cm1_an"]),
+            1e-8,
+        );
+        let vd = f(&e["v_d"]);
+        check(
+            &format!("n={n} v_D mod 1"),
+            kd.v_d_fraction.expect("fraction"),
+            vd - vd.floor(),
+            1e-8,
+        );
+        if n == 6.0 {
+            let a = kd.scattering_length_angstrom.as_ref().expect("a");
+            check("a (Å)", a.value, f(&e["scattering_length_angstrom"]), 1e-7);
+            let a0 = kd.scattering_length_a0.as_ref().expect("a in a0");
+            check("a (a0)", a0.value, f(&e["scattering_length_a0"]), 1e-7);
+            check(
+                "mean scattering length",
+                nd::mean_scattering_length_angstrom(6.0, f(&e["cn_cm1_an"]), f(&case["mu_u"])),
+                f(&e["abar_angstrom"]),
+                1e-12,
+            );
+        } else {
+            assert!(
+                kd.scattering_length_angstrom.is_none(),
+                "n={n}: a is for n = 6"
+            );
+        }
         // Each method that ran states what it rests on, with the n in force (wiring check of the
         // estimators' assumptions into the report).
         for what in [
@@ -1122,4 +1196,30 @@ fn spacings_with_a_gap() {
         lb.reason
     );
     assert!(r.warnings.iter().any(|w| w.contains("gap")));
+}
+
+/// Two fixed points of the Gribakin–Flambaum formula for n = 6 (Phys. Rev. A 48, 546 (1993),
+/// from memory), a = ā[1 − tan(Φ − π/8)], Φ = π(v_D + ½): a = ā when v_D mod 1 = 5/8, a = 0 when
+/// v_D mod 1 = 7/8; and an integer shift of v_D leaves a unchanged (closed form).
+#[test]
+fn scattering_length_fixed_points() {
+    let (c6, mu) = (86900.0, 7.0);
+    let abar = nd::mean_scattering_length_angstrom(6.0, c6, mu);
+    for base in [3.0, 40.0] {
+        check(
+            "a = ā",
+            nd::scattering_length_angstrom(6.0, c6, mu, base + 0.625),
+            abar,
+            1e-12,
+        );
+        let zero = nd::scattering_length_angstrom(6.0, c6, mu, base + 0.875);
+        assert!(zero.abs() < 1e-12 * abar, "a = {zero} at v_D mod 1 = 7/8");
+        let shifted = nd::scattering_length_angstrom(6.0, c6, mu, base + 1.3);
+        check(
+            "integer shift",
+            shifted,
+            nd::scattering_length_angstrom(6.0, c6, mu, 0.3),
+            1e-9,
+        );
+    }
 }

@@ -104,6 +104,7 @@ fn settings() -> impl Strategy<Value = AnalysisSettings> {
             finite_f64(),
             finite_f64(),
             finite_f64(),
+            prop::option::of(finite_f64()),
         ),
         band_settings(),
     )
@@ -118,6 +119,7 @@ fn settings() -> impl Strategy<Value = AnalysisSettings> {
                     curved_max_extrapolation,
                     near_dissociation_coverage,
                     outlier_threshold,
+                    asymptote_cm1,
                 ),
                 bands,
             )| AnalysisSettings {
@@ -134,6 +136,7 @@ fn settings() -> impl Strategy<Value = AnalysisSettings> {
                 curved_max_extrapolation,
                 near_dissociation_coverage,
                 outlier_threshold,
+                asymptote_cm1,
                 bands,
             },
         )

@@ -57,6 +57,8 @@ fn estimates(
                 lb.n.sigma = lb.n.sigma.map(|s| s * r);
             }
             rescale(&mut lb.d_cm1);
+            rescale(&mut lb.scattering_length_angstrom);
+            rescale(&mut lb.scattering_length_a0);
             if !lb.cn_fixed {
                 rescale(&mut lb.x0_cm1);
                 rescale(&mut lb.cn_cm1_an);

@@ -230,6 +230,17 @@ pub(crate) fn check_settings(s: &AnalysisSettings, mu_u: Option<f64>) -> Result<
             "C_n must be a positive number",
         ));
     }
+    if let Some(d) = s.asymptote_cm1
+        && !(d.is_finite() && d.abs() <= crate::intake::MAX_ABS_ENERGY_CM1)
+    {
+        return Err(Error::parameter(
+            "asymptote",
+            format!(
+                "the asymptote must be a number of at most {} cm⁻¹ in size",
+                crate::intake::MAX_ABS_ENERGY_CM1
+            ),
+        ));
+    }
     if let Some(m) = mu_u
         && !(m.is_finite() && m > 0.0)
     {

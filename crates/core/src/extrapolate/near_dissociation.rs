@@ -64,6 +64,27 @@ pub fn cn_to_atomic_units(n: f64, cn_cm1_an: f64) -> f64 {
     cn_cm1_an / (HARTREE_CM1 * BOHR_ANGSTROM.powf(n))
 }
 
+/// Mean scattering length ā of a −C_n/Rⁿ tail, Å: ā = cos(π/(n−2)) [√(μC_n/C_u)/(n−2)]^{2/(n−2)}
+/// Γ((n−3)/(n−2))/Γ((n−1)/(n−2)) (Gribakin & Flambaum, Phys. Rev. A 48, 546 (1993), from memory);
+/// √(μC_n/C_u) = √(2μC_n)/ħ in Å^{(n−2)/2} with μ in u and C_n in cm⁻¹Åⁿ. Needs n > 3.
+pub fn mean_scattering_length_angstrom(n: f64, cn_cm1_an: f64, mu_u: f64) -> f64 {
+    use statrs::function::gamma::gamma;
+    let k = n - 2.0;
+    let x = (mu_u * cn_cm1_an / C_U_CM1_U_A2).sqrt() / k;
+    (std::f64::consts::PI / k).cos() * x.powf(2.0 / k) * gamma((n - 3.0) / k) / gamma((n - 1.0) / k)
+}
+
+/// s-wave scattering length from v_D, Å, in the semiclassical form of Gribakin & Flambaum (1993,
+/// from memory): a = ā [1 − tan(π/(n−2)) tan(Φ − π/(2(n−2)))] with Φ = π(v_D + ½). It depends on
+/// v_D only through v_D mod 1, so an integer shift of the numbering leaves it unchanged.
+pub fn scattering_length_angstrom(n: f64, cn_cm1_an: f64, mu_u: f64, v_d: f64) -> f64 {
+    use std::f64::consts::PI;
+    let k = n - 2.0;
+    let phi = PI * (v_d + 0.5);
+    mean_scattering_length_angstrom(n, cn_cm1_an, mu_u)
+        * (1.0 - (PI / k).tan() * (phi - PI / (2.0 * k)).tan())
+}
+
 /// Which near-dissociation fit.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum LbVariant {
@@ -84,6 +105,14 @@ pub enum LbVariant {
         /// X0 from C_n and μ, cm⁻¹.
         x0: f64,
     },
+    /// The asymptote D known (binding energies below it, or an asymptote from atomic data):
+    /// v_D and X0 fitted.
+    KnownD {
+        /// Long-range exponent.
+        n: f64,
+        /// The asymptote on the data's energy scale, cm⁻¹.
+        d: f64,
+    },
 }
 
 impl LbVariant {
@@ -92,7 +121,7 @@ impl LbVariant {
         match self {
             LbVariant::FixedN { .. } => 3,
             LbVariant::FreeN { .. } => 4,
-            LbVariant::FixedX0 { .. } => 2,
+            LbVariant::FixedX0 { .. } | LbVariant::KnownD { .. } => 2,
         }
     }
 }
@@ -120,6 +149,11 @@ struct FreeN;
 struct FixedX0 {
     p: f64,
     x0: f64,
+}
+/// θ = (v_D, X0) with D known.
+struct KnownD {
+    p: f64,
+    d: f64,
 }
 
 fn above(vd: f64, v: &[f64]) -> bool {
@@ -163,6 +197,17 @@ impl LmModel<2> for FixedX0 {
     }
     fn valid(&self, t: &[f64; 2], v: &[f64]) -> bool {
         above(t[1], v)
+    }
+}
+
+impl LmModel<2> for KnownD {
+    fn eval(&self, t: &[f64; 2], v: f64) -> (f64, [f64; 2]) {
+        let u = t[0] - v;
+        let up = pow(u, self.p);
+        (self.d - t[1] * up, [-t[1] * self.p * up / u, -up])
+    }
+    fn valid(&self, t: &[f64; 2], v: &[f64]) -> bool {
+        t[1] > 0.0 && above(t[0], v)
     }
 }
 
@@ -233,7 +278,7 @@ fn profile(
     w: &Whitener,
     p: f64,
     vd: f64,
-    x0_fixed: Option<f64>,
+    fixed: Fixed,
     buf: &mut [Vec<f64>; 3],
 ) -> Option<(f64, f64, f64)> {
     let m = v.len();
@@ -247,12 +292,20 @@ fn profile(
     }
     w.apply(tmp, col);
     let dot = |a: &[f64], b: &[f64]| a.iter().zip(b).map(|(x, y)| x * y).sum::<f64>();
-    let (d, x0) = match x0_fixed {
-        Some(x0) => {
+    let (d, x0) = match fixed {
+        Fixed::X0(x0) => {
             let r: Vec<f64> = (0..m).map(|i| ew[i] - x0 * col[i]).collect();
             (dot(ones, &r) / dot(ones, ones), x0)
         }
-        None => {
+        Fixed::D(d) => {
+            let r: Vec<f64> = (0..m).map(|i| ew[i] - d * ones[i]).collect();
+            let cc = dot(col, col);
+            if cc.is_nan() || cc <= 1e-300 {
+                return None;
+            }
+            (d, dot(col, &r) / cc)
+        }
+        Fixed::Neither => {
             let (a11, a12, a22) = (dot(ones, ones), dot(ones, col), dot(col, col));
             let (b1, b2) = (dot(ones, ew), dot(col, ew));
             let det = a11 * a22 - a12 * a12;
@@ -268,6 +321,14 @@ fn profile(
     chi2.is_finite().then_some((d, x0, chi2))
 }
 
+/// What the profile holds fixed besides n.
+#[derive(Clone, Copy)]
+enum Fixed {
+    Neither,
+    X0(f64),
+    D(f64),
+}
+
 /// Scan the profile χ² over v_D (and n when free). Returns the best (D, v_D, X0, n) or why not.
 fn start(input: &LbInput, w: &Whitener, variant: LbVariant) -> Result<[f64; 4], String> {
     let m = input.v.len();
@@ -276,7 +337,9 @@ fn start(input: &LbInput, w: &Whitener, variant: LbVariant) -> Result<[f64; 4], 
     w.apply(&input.e, &mut ew);
     let mut buf = [vec![0.0; m], vec![0.0; m], vec![0.0; m]];
     let ns: Vec<f64> = match variant {
-        LbVariant::FixedN { n } | LbVariant::FixedX0 { n, .. } => vec![n],
+        LbVariant::FixedN { n } | LbVariant::FixedX0 { n, .. } | LbVariant::KnownD { n, .. } => {
+            vec![n]
+        }
         LbVariant::FreeN { n_start } => {
             let mut g = vec![
                 2.5, 3.0, 3.5, 4.0, 4.5, 5.0, 5.5, 6.0, 7.0, 8.0, 9.0, 10.0, 12.0, 14.0, 16.0, 20.0,
@@ -285,9 +348,10 @@ fn start(input: &LbInput, w: &Whitener, variant: LbVariant) -> Result<[f64; 4], 
             g
         }
     };
-    let x0_fixed = match variant {
-        LbVariant::FixedX0 { x0, .. } => Some(x0),
-        _ => None,
+    let fixed = match variant {
+        LbVariant::FixedX0 { x0, .. } => Fixed::X0(x0),
+        LbVariant::KnownD { d, .. } => Fixed::D(d),
+        _ => Fixed::Neither,
     };
     let last = delta_grid().count() - 1;
     let mut best: Option<(f64, [f64; 4], usize)> = None;
@@ -295,7 +359,7 @@ fn start(input: &LbInput, w: &Whitener, variant: LbVariant) -> Result<[f64; 4], 
         let p = exponent(n);
         for (i, delta) in delta_grid().enumerate() {
             let vd = v_max + delta;
-            if let Some((d, x0, chi2)) = profile(&input.v, &ew, w, p, vd, x0_fixed, &mut buf)
+            if let Some((d, x0, chi2)) = profile(&input.v, &ew, w, p, vd, fixed, &mut buf)
                 && x0 > 0.0
                 && best.as_ref().is_none_or(|b| chi2 < b.0)
             {
@@ -394,6 +458,25 @@ pub fn fit(input: &LbInput, variant: LbVariant) -> LbOutcome {
                 DMatrix::from_iterator(2, 2, o.jtj.iter().copied()),
             )
         }
+        LbVariant::KnownD { n, d } => {
+            let o = lm::solve(
+                &KnownD { p: exponent(n), d },
+                &input.v,
+                &input.e,
+                &w,
+                [t0[1], t0[2]],
+                opts,
+                &mut ws,
+            );
+            // Laid out as the other variants: (D, v_D, X0).
+            (
+                vec![d, o.theta[0], o.theta[1]],
+                o.chi2,
+                o.termination,
+                o.iterations,
+                DMatrix::from_iterator(2, 2, o.jtj.iter().copied()),
+            )
+        }
     };
     if !termination.converged() {
         let at_edge =
@@ -427,17 +510,25 @@ pub fn fit(input: &LbInput, variant: LbVariant) -> LbOutcome {
     let jw = DMatrix::from_row_slice(m, p_count, ws.whitened_jacobian());
     let sens = &cov * jw.transpose() * w.matrix() * &input.map;
     let n_data = input.map.ncols();
+    // Row of θ in the sensitivity (KnownD fits θ = (v_D, X0) only).
+    let row_of = |k: usize| match variant {
+        LbVariant::KnownD { .. } => k - 1,
+        _ => k,
+    };
     let lin = |k: usize| Lin {
         value: theta[k],
-        grad: sens.row(k).transpose(),
+        grad: sens.row(row_of(k)).transpose(),
     };
-    let (x0, n) = match variant {
-        LbVariant::FixedN { n } => (lin(2), Lin::constant(n, n_data)),
-        LbVariant::FreeN { .. } => (lin(2), lin(3)),
-        LbVariant::FixedX0 { n, x0 } => (Lin::constant(x0, n_data), Lin::constant(n, n_data)),
+    let (d, x0, n) = match variant {
+        LbVariant::FixedN { n } => (lin(0), lin(2), Lin::constant(n, n_data)),
+        LbVariant::FreeN { .. } => (lin(0), lin(2), lin(3)),
+        LbVariant::FixedX0 { n, x0 } => {
+            (lin(0), Lin::constant(x0, n_data), Lin::constant(n, n_data))
+        }
+        LbVariant::KnownD { n, d } => (Lin::constant(d, n_data), lin(2), Lin::constant(n, n_data)),
     };
     LbOutcome::Fit(Box::new(LbFit {
-        d: lin(0),
+        d,
         v_d: lin(1),
         x0,
         n,
@@ -750,6 +841,18 @@ impl Redraw for LbEstimator {
                     &mut self.ws,
                 );
                 (o.theta[0], o.theta[1], o.termination.converged())
+            }
+            LbVariant::KnownD { n, d } => {
+                let o = lm::solve(
+                    &KnownD { p: exponent(n), d },
+                    &self.v,
+                    &self.e,
+                    &self.w,
+                    [t[1], t[2]],
+                    opts,
+                    &mut self.ws,
+                );
+                (d, o.theta[0], o.termination.converged())
             }
         };
         if !conv {

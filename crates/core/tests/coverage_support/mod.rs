@@ -330,9 +330,16 @@ pub fn run(c: &Case, knowledge: Knowledge, mc_samples: u32) -> Outcome {
         })
         .collect();
     out.method = rec.method.clone();
-    out.estimate_cm1 = rec.d0_cm1.map(|d| d - shift);
-    out.low_cm1 = rec.d0_low_cm1.map(|d| d - shift);
-    out.high_cm1 = rec.d0_high_cm1.map(|d| d - shift);
+    (out.estimate_cm1, out.low_cm1, out.high_cm1) = match c.kind {
+        SetKind::Truncated(_) => (rec.d0_cm1, rec.d0_low_cm1, rec.d0_high_cm1),
+        // The binding energy of the top level as the recommendation states it (D0 is withdrawn
+        // when G(0) would be a long extrapolation, as it is for these sets).
+        SetKind::NearThreshold(_) => (
+            rec.above_top_cm1,
+            rec.above_top_low_cm1,
+            rec.above_top_high_cm1,
+        ),
+    };
     out.sigma_total_cm1 = match (rec.sigma_stat_cm1, rec.sigma_model_cm1) {
         (Some(a), Some(b)) => Some(a + b),
         _ => None,

@@ -3,6 +3,7 @@
 
 use super::{Estimator, Fitted, sample, vs};
 use crate::analysis::prepare::Prepared;
+use crate::constants::BOHR_ANGSTROM;
 use crate::extrapolate::near_dissociation::{self as nd, LbOutcome, LbVariant};
 use crate::extrapolate::{Context, Limit, Lin, Nominal};
 use crate::recommend::{Family, FitEvidence};
@@ -67,6 +68,18 @@ pub(super) fn instances(p: &Prepared, warnings: &mut Vec<String>) -> Vec<Box<dyn
             false,
             LbVariant::FixedN { n: s.lb_n },
             k_alt,
+        ));
+    }
+    if let Some(d) = s.asymptote_cm1 {
+        all.push(fit(
+            "leroy-bernstein-known-asymptote",
+            format!(
+                "LeRoy–Bernstein, n = {} fixed, asymptote held at {d} cm⁻¹ (given)",
+                s.lb_n
+            ),
+            false,
+            LbVariant::KnownD { n: s.lb_n, d },
+            k_top.max(3),
         ));
     }
     if let Some(cn) = s.lb_cn_cm1_an {
@@ -134,6 +147,7 @@ impl Estimator for LeroyBernstein {
             LbVariant::FixedN { n } => (n, false, false),
             LbVariant::FreeN { n_start } => (n_start, true, false),
             LbVariant::FixedX0 { n, .. } => (n, false, true),
+            LbVariant::KnownD { n, .. } => (n, false, false),
         };
         let mut details = LbDetails {
             n: ValueSigma::new(n_val, None),
@@ -149,6 +163,10 @@ impl Estimator for LeroyBernstein {
             dof: None,
             termination: None,
             iterations: None,
+            asymptote_known: matches!(variant, LbVariant::KnownD { .. }),
+            v_d_fraction: None,
+            scattering_length_angstrom: None,
+            scattering_length_a0: None,
         };
         let f = match nd::fit(&input, variant) {
             LbOutcome::NoLimit {
@@ -175,7 +193,12 @@ impl Estimator for LeroyBernstein {
         } else {
             ValueSigma::new(f.n.value, None)
         };
-        details.d_cm1 = Some(vs(&f.d, cov_opt));
+        details.d_cm1 = Some(if details.asymptote_known {
+            ValueSigma::new(f.d.value, None)
+        } else {
+            vs(&f.d, cov_opt)
+        });
+        details.v_d_fraction = Some(f.v_d.value - f.v_d.value.floor());
         details.x0_cm1 = Some(if cn_fixed {
             ValueSigma::new(f.x0.value, None)
         } else {
@@ -189,10 +212,24 @@ impl Estimator for LeroyBernstein {
             details.top_binding_cm1 = Some(vs(&d_x.minus(top), cov_opt));
         }
         if let Some(mu) = p.mu_u {
-            let (cn, s) = cn_with_sigma(&f.n, &f.x0, mu, (!cn_fixed).then_some(cov_opt).flatten());
-            details.cn_cm1_an = Some(ValueSigma::new(cn, s));
+            let cn = cn_of(&f.n, &f.x0, mu);
+            let s = if cn_fixed {
+                None
+            } else {
+                cov_opt.map(|c| cn.sigma(c))
+            };
+            details.cn_cm1_an = Some(ValueSigma::new(cn.value, s));
             let au = nd::cn_to_atomic_units(f.n.value, 1.0);
-            details.cn_au = Some(ValueSigma::new(cn * au, s.map(|x| x * au)));
+            details.cn_au = Some(ValueSigma::new(cn.value * au, s.map(|x| x * au)));
+            if f.n.value == 6.0
+                && let Some(a) = scattering_length(&f.v_d, &cn, mu)
+            {
+                let sa = cov_opt.map(|c| a.sigma(c));
+                details.scattering_length_angstrom = Some(ValueSigma::new(a.value, sa));
+                let b = 1.0 / BOHR_ANGSTROM;
+                details.scattering_length_a0 =
+                    Some(ValueSigma::new(a.value * b, sa.map(|x| x * b)));
+            }
         }
         if n_fitted
             && cov_opt.is_some()
@@ -262,21 +299,30 @@ impl Estimator for LeroyBernstein {
     }
 }
 
-/// C_n from X0 and n with its σ: the gradient dC/dX0 · gX0 + dC/dn · gn (the n-derivative by a
-/// central difference).
-fn cn_with_sigma(
-    n: &Lin,
-    x0: &Lin,
-    mu_u: f64,
-    cov: Option<&nalgebra::DMatrix<f64>>,
-) -> (f64, Option<f64>) {
+/// C_n from X0 and n as a function of the data: the gradient dC/dX0 · gX0 + dC/dn · gn (the
+/// n-derivative by a central difference).
+fn cn_of(n: &Lin, x0: &Lin, mu_u: f64) -> Lin {
     let nn = n.value;
     let cn = nd::cn_from_x0(nn, x0.value, mu_u);
     let dcdx = -(nn - 2.0) / 2.0 * cn / x0.value;
     let h = 1e-6 * nn;
     let dcdn = (nd::cn_from_x0(nn + h, x0.value, mu_u) - nd::cn_from_x0(nn - h, x0.value, mu_u))
         / (2.0 * h);
-    let g = &x0.grad * dcdx + &n.grad * dcdn;
-    let cl = Lin { value: cn, grad: g };
-    (cn, cov.map(|c| cl.sigma(c)))
+    Lin {
+        value: cn,
+        grad: &x0.grad * dcdx + &n.grad * dcdn,
+    }
+}
+
+/// The n = 6 scattering length from v_D and C_6 as a function of the data (`None` at a pole):
+/// ∂a/∂v_D = −π ā sec²(Φ − π/8), ∂a/∂C_6 = a/(4 C_6) (ā ∝ C_6^{1/4}).
+fn scattering_length(v_d: &Lin, c6: &Lin, mu_u: f64) -> Option<Lin> {
+    use std::f64::consts::PI;
+    let a = nd::scattering_length_angstrom(6.0, c6.value, mu_u, v_d.value);
+    let abar = nd::mean_scattering_length_angstrom(6.0, c6.value, mu_u);
+    let c = (PI * (v_d.value + 0.5) - PI / 8.0).cos();
+    let da_dvd = -PI * abar / (c * c);
+    let da_dc6 = a / (4.0 * c6.value);
+    let grad = &v_d.grad * da_dvd + &c6.grad * da_dc6;
+    (a.is_finite() && grad.iter().all(|g| g.is_finite())).then_some(Lin { value: a, grad })
 }
