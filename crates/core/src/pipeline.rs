@@ -76,6 +76,17 @@ pub fn analyze_session(
     let mut analysis = match data.kind {
         DataKind::Levels => {
             let levels = data.levels()?;
+            // Binding energies put the asymptote at 0 (unless another was given).
+            let with_asymptote;
+            let settings = if data.binding_energies() && settings.asymptote_cm1.is_none() {
+                with_asymptote = crate::settings::AnalysisSettings {
+                    asymptote_cm1: Some(0.0),
+                    ..settings.clone()
+                };
+                &with_asymptote
+            } else {
+                settings
+            };
             let mut report = analyze_levels_with_progress(&levels, None, mu_u, settings, progress)?;
             match crate::closing::close_the_loop(&report, &levels, mu_u) {
                 Ok(p) => report.potential = Some(p),

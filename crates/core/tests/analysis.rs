@@ -340,16 +340,29 @@ fn pure_tail_recovers_limit_and_cn() {
         // D0 is withdrawn and the binding energy of the top level (exact: D − E(v_top)) is stated
         // with an interval that holds it.
         let rec = &r.recommended;
-        assert!(!rec.d0_determined && rec.d0_cm1.is_none() && rec.de_cm1.is_none(), "n={n}");
-        let top = case["levels"].as_array().expect("levels").last().expect("a level");
+        assert!(
+            !rec.d0_determined && rec.d0_cm1.is_none() && rec.de_cm1.is_none(),
+            "n={n}"
+        );
+        let top = case["levels"]
+            .as_array()
+            .expect("levels")
+            .last()
+            .expect("a level");
         let true_above = f(&e["d_cm1"]) - f(&top["energy_cm1"]);
         let (lo, hi) = (
             rec.above_top_low_cm1.expect("low"),
             rec.above_top_high_cm1.expect("high"),
         );
-        assert!(lo <= true_above && true_above <= hi, "n={n}: {true_above} not in [{lo}, {hi}]");
+        assert!(
+            lo <= true_above && true_above <= hi,
+            "n={n}: {true_above} not in [{lo}, {hi}]"
+        );
         let asym = rec.asymptote_cm1.expect("asymptote");
-        assert!((asym - f(&e["d_cm1"])).abs() <= hi - lo, "n={n}: asymptote {asym}");
+        assert!(
+            (asym - f(&e["d_cm1"])).abs() <= hi - lo,
+            "n={n}: asymptote {asym}"
+        );
         // With the asymptote given, the fit with it held fixed recovers v_D, X0 and C_n of the
         // closed form, v_D mod 1, and (n = 6) the scattering length of Gribakin & Flambaum's
         // formula evaluated by the oracle at the true v_D and C_6.
@@ -1222,4 +1235,67 @@ fn scattering_length_fixed_points() {
             1e-9,
         );
     }
+}
+
+/// Binding energies below the asymptote, read from a table whose header says so (`E_b`): the
+/// intake labels the column and gives levels E = −E_b, the analysis holds the asymptote at 0,
+/// recovers the closed form's v_D and C_6 from the fit with it held, and withdraws D0.
+/// SOURCE: the n = 6 case of tests/analysis/pure_tail.json (LeRoy–Bernstein closed form).
+#[test]
+fn binding_energies_are_read_and_analysed_below_a_known_asymptote() {
+    use rungs_core::intake::IntakeOptions;
+    use rungs_core::session::Session;
+    use rungs_core::settings::MassSpec;
+    let fx = fixture("pure_tail");
+    let case = fx["cases"]
+        .as_array()
+        .expect("cases")
+        .iter()
+        .find(|c| f(&c["n"]) == 6.0)
+        .expect("n = 6");
+    let e = &case["expected"];
+    let d = f(&e["d_cm1"]);
+    let mut text = String::from("v,E_b (cm-1),sigma\n");
+    for l in case["levels"].as_array().expect("levels") {
+        text.push_str(&format!(
+            "{},{},{}\n",
+            l["v"],
+            d - f(&l["energy_cm1"]),
+            l["sigma_cm1"]
+        ));
+    }
+    let settings = AnalysisSettings {
+        mass: Some(MassSpec::ReducedMass {
+            mu_u: f(&case["mu_u"]),
+        }),
+        ..quick()
+    };
+    let session = Session::new(&text, None, IntakeOptions::default(), settings);
+    let data = session.data().expect("read");
+    assert!(data.binding_energies());
+    let note = data.columns[1].note.as_deref().unwrap_or("");
+    assert!(
+        note.contains("binding energies below the asymptote"),
+        "{note}"
+    );
+    let r = rungs_core::analyze_session(&session, &mut |_, _| {}).expect("analysis");
+    let r = r.as_levels().expect("a level analysis");
+    assert_eq!(r.settings.asymptote_cm1, Some(0.0));
+    assert!(r.levels.iter().all(|l| l.energy_cm1 < 0.0));
+    assert!(!r.recommended.d0_determined && r.recommended.d0_cm1.is_none());
+    let k = est(r, "leroy-bernstein-known-asymptote");
+    check("v_D", k.v_d.expect("v_D"), f(&e["v_d"]), 1e-8);
+    let lb = k.leroy_bernstein.as_ref().expect("details");
+    check(
+        "C_6",
+        lb.cn_cm1_an.as_ref().expect("C_6").value,
+        f(&e["cn_cm1_an"]),
+        1e-7,
+    );
+    check(
+        "a",
+        lb.scattering_length_angstrom.as_ref().expect("a").value,
+        f(&e["scattering_length_angstrom"]),
+        1e-6,
+    );
 }

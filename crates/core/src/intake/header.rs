@@ -35,6 +35,8 @@ pub(crate) struct HeaderInfo {
     pub positions: Option<BandPositions>,
     /// The name says wavelength (λ, lambda, wavelength, wl).
     pub wavelength_name: bool,
+    /// The name says binding energies below the asymptote (`E_b`, `Eb`, `binding energy`).
+    pub binding: bool,
 }
 
 /// Reads a header cell.
@@ -48,6 +50,7 @@ pub(crate) fn analyse(header: &str) -> HeaderInfo {
         medium_conflict: false,
         positions: None,
         wavelength_name: false,
+        binding: false,
     };
     if h.is_empty() {
         return info;
@@ -88,6 +91,7 @@ pub(crate) fn analyse(header: &str) -> HeaderInfo {
     } else if n.contains("origin") || n == "ν0" || n == "nu0" {
         info.positions = Some(BandPositions::Origins);
     }
+    info.binding = n.starts_with("binding") || matches!(n.as_str(), "eb" | "ebind" | "ebinding");
     info.role = role_of(&n);
     info
 }

@@ -650,14 +650,30 @@ impl DataSet {
         Err(Error::TooFewPoints { what, have, need })
     }
 
+    /// Whether the level energies are binding energies below the asymptote (the energy column's
+    /// header says so: `E_b`, `Eb`, `binding energy`).
+    pub fn binding_energies(&self) -> bool {
+        self.kind == DataKind::Levels
+            && self
+                .columns
+                .iter()
+                .any(|c| c.role == Role::Energy && header::analyse(&c.name).binding)
+    }
+
     /// The usable levels (checked with [`DataSet::check_usable`]); an error for other kinds.
+    /// Binding energies E_b below the asymptote come out as level energies E = −E_b, on a scale
+    /// whose asymptote is 0.
     pub fn levels(&self) -> Result<Vec<Level>> {
         self.expect_kind(DataKind::Levels)?;
+        let sign = if self.binding_energies() { -1.0 } else { 1.0 };
         Ok(self
             .observations()
             .into_iter()
             .filter_map(|o| match o {
-                Observation::Level(l) => Some(l),
+                Observation::Level(l) => Some(Level {
+                    energy_cm1: sign * l.energy_cm1,
+                    ..l
+                }),
                 _ => None,
             })
             .collect())
@@ -900,7 +916,15 @@ pub fn read_table(text: &str, options: &IntakeOptions) -> Result<DataSet> {
             role_from: cands[i].1,
             unit: None,
             unit_from: None,
-            note: plan_roles[i].1.clone(),
+            note: plan_roles[i].1.clone().or_else(|| {
+                (kind == DataKind::Levels
+                    && plan_roles[i].0 == Role::Energy
+                    && header::analyse(&names[i]).binding)
+                    .then(|| {
+                        "binding energies below the asymptote: read as level energies E = −E_b, with the asymptote at 0"
+                            .to_string()
+                    })
+            }),
         })
         .collect();
     resolve_units(
