@@ -63,7 +63,7 @@ export class DataPanel {
     if (r.diagnostics.length) {
       host.append(el('details', { class: 'remarks' },
         el('summary', {}, `${r.diagnostics.length} remark(s) on the reading`),
-        el('ul', {}, r.diagnostics.map((d) => el('li', { class: d.severity }, d.row ? `row ${d.row}: ` : '', d.message)))));
+        el('ul', {}, r.diagnostics.map((d) => el('li', { class: d.severity }, d.message)))));
     }
   }
 
@@ -138,11 +138,12 @@ export class DataPanel {
         type: 'text', value: (row.reasons[0] ?? '').replace(/^excluded by you: /, ''), 'aria-label': `Reason for excluding row ${row.line}`,
         onchange: (e) => this.onChange({ op: 'exclude', row: row.line, reason: e.target.value || 'excluded by you (no reason given)' }),
       }))
-      : el('span', { class: 'c-why', title: row.reasons.join('; ') }, usable ? 'used' : row.reasons.join('; '));
+      : el('span', { class: 'c-why', title: row.note ?? row.reasons.join('; ') }, usable ? (row.note ? `used; ${row.note}` : 'used') : row.reasons.join('; '));
     const sigmaColumn = this.reading.columns.findIndex((c) => c.role === 'sigma');
     const shown = row.sigma_edited ?? (sigmaColumn >= 0 ? row.cells[sigmaColumn] : '');
     const sigma = el('span', { class: 'c-sigma' }, el('input', {
       type: 'text', inputmode: 'decimal', value: shown ?? '', class: row.sigma_edited !== null && row.sigma_edited !== undefined ? 'edited' : '',
+      placeholder: row.note ? 'median' : '',
       'aria-label': `Uncertainty of row ${row.line}`,
       onchange: (e) => {
         const t = e.target.value.trim();
@@ -156,7 +157,7 @@ export class DataPanel {
         this.onChange({ op: 'sigma', row: row.line, sigma: t === '' ? null : x });
       },
     }));
-    return el('div', { class: `row ${row.status}`, role: 'row', 'data-line': row.line },
+    return el('div', { class: `row ${row.status}${row.note ? ' assumed' : ''}`, role: 'row', 'data-line': row.line },
       el('span', { class: 'c-line' }, row.line),
       toggle,
       this.reading.columns.map((c, i) => el('span', { class: 'c-cell' }, row.cells[i] ?? '')),
