@@ -2,7 +2,7 @@
 // controls to correct it, and a scrolling table of every input row with its status. Rows are
 // fetched from the worker in pages, so a table of 100 000 rows scrolls without freezing.
 
-import { el, clear, $ } from './dom.js';
+import { el, clear, keepFocus, $ } from './dom.js';
 
 const ROW_HEIGHT = 28;
 const PAGE = 200;
@@ -23,12 +23,15 @@ export class DataPanel {
     this.box.addEventListener('scroll', () => this.paint());
   }
 
+  /** Show a new reading; the focused control (a row's switch, a column's role…) keeps the focus. */
   show(reading) {
     this.reading = reading;
     this.pages.clear();
     $('data-panel').hidden = false;
-    this.renderReading();
-    this.renderRows();
+    return keepFocus($('data-panel'), () => {
+      this.renderReading();
+      return this.renderRows();
+    });
   }
 
   renderReading() {
@@ -92,9 +95,10 @@ export class DataPanel {
     this.spacer = el('div', { class: 'spacer' });
     this.spacer.style.height = `${r.n_rows * ROW_HEIGHT}px`; // CSSOM: allowed by the page's CSP
     this.windowEl = el('div', { class: 'window' });
+    this.shown = new Map();
     this.box.append(this.head, this.spacer);
     this.spacer.append(this.windowEl);
-    this.paint();
+    return this.paint();
   }
 
   async page(k) {
@@ -120,9 +124,21 @@ export class DataPanel {
         if (index >= top && index < end) rows.push([index, row]);
       });
     }
-    clear(this.windowEl);
+    // Rows still in view keep their elements (a focused switch or σ field must survive a
+    // scroll); rows leaving the view are removed, rows entering it are added in order.
+    const lines = new Set(rows.map(([, row]) => row.line));
+    for (const [line, node] of this.shown) {
+      if (!lines.has(line)) { node.remove(); this.shown.delete(line); }
+    }
+    let before = this.windowEl.firstChild;
+    for (const [, row] of rows) {
+      const kept = this.shown.get(row.line);
+      if (kept) { before = kept.nextSibling; continue; }
+      const node = this.rowElement(row);
+      this.shown.set(row.line, node);
+      this.windowEl.insertBefore(node, before);
+    }
     this.windowEl.style.transform = `translateY(${top * ROW_HEIGHT}px)`;
-    for (const [, row] of rows) this.windowEl.append(this.rowElement(row));
   }
 
   rowElement(row) {

@@ -2,7 +2,7 @@
 // through wasm at the screen's pixel density), pointer read-outs, and SVG/PNG downloads.
 // The worker builds each figure from its analysis; this thread only draws it.
 
-import { el, clear, download, $ } from './dom.js';
+import { el, clear, download, keepFocus, $ } from './dom.js';
 
 export class FigurePanel {
   /**
@@ -33,19 +33,44 @@ export class FigurePanel {
     await this.load();
   }
 
+  /** The tabs follow the WAI-ARIA tabs pattern: one tab stop (the selected tab), arrow keys,
+   *  Home and End move between tabs and show the figure at once. */
   renderTabs() {
-    const tabs = clear($('figure-tabs'));
-    for (const [id, title, short] of this.list) {
-      tabs.append(el('button', {
-        type: 'button', role: 'tab', 'aria-selected': id === this.current ? 'true' : 'false', 'data-figure': id, title,
-        onclick: () => this.select(id),
-      }, short));
-    }
+    keepFocus($('figure-tabs'), () => {
+      const tabs = clear($('figure-tabs'));
+      for (const [id, title, short] of this.list) {
+        const selected = id === this.current;
+        tabs.append(el('button', {
+          type: 'button', role: 'tab', id: `tab-${id}`, 'aria-selected': selected ? 'true' : 'false', 'aria-controls': 'figure-panel',
+          tabindex: selected ? '0' : '-1', 'data-figure': id, title,
+          onclick: () => this.select(id),
+          onkeydown: (e) => this.key(e, id),
+        }, short));
+      }
+      $('figure-panel').setAttribute('aria-labelledby', `tab-${this.current}`);
+    });
   }
 
+  key(event, id) {
+    const ids = this.list.map(([k]) => k);
+    const i = ids.indexOf(id);
+    const to = { ArrowRight: i + 1, ArrowDown: i + 1, ArrowLeft: i - 1, ArrowUp: i - 1, Home: 0, End: ids.length - 1 }[event.key];
+    if (to === undefined || !ids.length) return;
+    event.preventDefault();
+    const next = ids[(to + ids.length) % ids.length];
+    this.select(next);
+    $(`tab-${next}`)?.focus();
+  }
+
+  /** Show a figure; the tabs are updated in place, so a focused tab keeps the focus. */
   async select(id) {
     this.current = id;
-    this.renderTabs();
+    for (const b of $('figure-tabs').querySelectorAll('[role=tab]')) {
+      const selected = b.dataset.figure === id;
+      b.setAttribute('aria-selected', selected ? 'true' : 'false');
+      b.tabIndex = selected ? 0 : -1;
+    }
+    $('figure-panel').setAttribute('aria-labelledby', `tab-${id}`);
     await this.load();
   }
 
