@@ -163,3 +163,89 @@ test('figure tabs: arrow keys, Home and End move the selection, one tab stop, fo
   clean(problems);
   await context.close();
 });
+
+/**
+ * Patterns that must never reach a user: names of our internal notes and section references
+ * to them, method ids, snake_case field paths, Rust enum names, parser messages, and the marks
+ * of values gone missing on the way to the screen.
+ */
+const INTERNAL = [
+  [/domain\.md|\.md\b/, 'an internal note'],
+  [/§/, 'a section reference to internal notes'],
+  [/(?<![\w-])(?:birge-sponer-(?:linear|curved)|leroy-bernstein(?:-n-free|-alt-levels)?|near-dissociation-expansion|observed-sum|monte-carlo)(?![\w-])/, 'a method id'],
+  // Field names such as sigma_scale or bands.head_sigma_cm1; not notation such as r_e or v_top.
+  [/\b[a-z]{2,}[a-z0-9]*(?:_[a-z0-9]+)+\b/, 'a snake_case field name'],
+  [/\b(?!LeRoy\b)[A-Z][a-z]+[A-Z][A-Za-z]*\b/, 'a Rust type or enum name'],
+  [/expected (?:u32|u64|f64|usize|i32|a |value|`)|at line \d+ column \d+|invalid type|unknown variant|missing field/, 'a parser message'],
+  [/nullnull|\bundefined\b|\bNaN\b|\[object Object\]|± —|±\s*$/, 'a value lost on the way'],
+];
+
+/** The findings of INTERNAL in `strings` (each [where, text]). */
+function findInternal(strings) {
+  const found = [];
+  for (const [where, text] of strings) {
+    for (const [re, what] of INTERNAL) {
+      const m = text.match(re);
+      if (m) found.push(`${what} "${m[0]}" in ${where}: ${text.slice(0, 160)}`);
+    }
+  }
+  return found;
+}
+
+test('the scan of user-visible words finds internal names (a check of the check itself)', () => {
+  const planted = [
+    ['a', 'see domain.md §1.5'], ['b', 'birge-sponer-linear ×5173'], ['c', 'sigma_scale'],
+    ['d', 'bands.head_sigma_cm1'], ['e', 'stopped: MaxIterations'], ['f', 'expected u32 at line 1 column 16'],
+    ['g', 'nullnull'], ['h', '12 ± —'],
+  ];
+  for (const [where, text] of planted) {
+    assert.ok(findInternal([[where, text]]).length > 0, `found in "${text}"`);
+  }
+  assert.deepEqual(findInternal([['ok', 'LeRoy–Bernstein D0 = 4385 ± 12 cm⁻¹ (Birge–Sponer, CODATA 2022); G(v_top) − G(0); r_e = 2.39 Å']]), []);
+});
+
+test('nothing a user reads after the demo analysis carries internal names or parser messages', async () => {
+  const { page, problems, context } = await fresh();
+  // Open every collapsed part and build the printed report view, so all of it is in the page.
+  await page.evaluate(async () => {
+    for (const d of document.querySelectorAll('details')) d.open = true;
+    await globalThis.rungsBuildReport();
+  });
+  const strings = await page.evaluate(() => {
+    const out = [];
+    // The user's own table (cells, column names, file name) is theirs, not ours.
+    const theirs = (n) => n.closest?.('#rows .c-cell, .columns td:nth-child(2), .rows-text');
+    const walk = document.createTreeWalker(document.body, NodeFilter.SHOW_TEXT);
+    for (let t = walk.nextNode(); t; t = walk.nextNode()) {
+      const p = t.parentElement;
+      if (!p || p.closest('script, style') || theirs(p)) continue;
+      const text = t.textContent.trim();
+      if (text) out.push([`<${p.tagName.toLowerCase()}${p.id ? `#${p.id}` : ''}>`, text]);
+    }
+    for (const e of document.querySelectorAll('[title], [aria-label], [placeholder], [alt]')) {
+      for (const a of ['title', 'aria-label', 'placeholder', 'alt']) {
+        const v = e.getAttribute(a);
+        if (v && !theirs(e)) out.push([`${a} of <${e.tagName.toLowerCase()}>`, v]);
+      }
+    }
+    for (const i of document.querySelectorAll('input:not([type=checkbox]):not([type=file])')) {
+      if (i.value && !theirs(i) && !i.closest('#rows')) out.push([`value of ${i.name || i.id}`, i.value]);
+    }
+    // Words drawn in the figures of the printed report (SVG text).
+    for (const img of document.querySelectorAll('#print-view img')) {
+      const svg = decodeURIComponent(img.src.replace(/^data:image\/svg\+xml;charset=utf-8,/, ''));
+      const doc = new DOMParser().parseFromString(svg, 'image/svg+xml');
+      for (const t of doc.querySelectorAll('text, title')) {
+        if (t.textContent.trim()) out.push([`figure ${img.alt}`, t.textContent.trim()]);
+      }
+    }
+    return out;
+  });
+  await page.evaluate(() => window.dispatchEvent(new Event('afterprint')));
+  assert.ok(strings.length > 200, `the page was read (${strings.length} strings)`);
+  assert.ok(strings.some(([w]) => w.startsWith('figure ')), 'the figures were read');
+  const found = findInternal(strings);
+  assert.deepEqual(found, [], `\n${found.join('\n')}`);
+  clean(problems);
+  await context.close();
+});

@@ -127,6 +127,23 @@ pub fn rows_summary(data: &DataSet) -> RowsSummary {
     }
 }
 
+fn plain(text: &str) -> String {
+    crate::methods::in_plain_words(text)
+}
+
+/// The analyses' messages that people read, with method ids written as names (the ids stay in
+/// the fields made for programs, such as `Estimate::method`).
+fn in_plain_words(r: &mut Report) {
+    r.warnings = r.warnings.iter().map(|w| plain(w)).collect();
+    r.uncertainty.note = plain(&r.uncertainty.note);
+    r.recommended.reason = plain(&r.recommended.reason);
+    r.monte_carlo.note = plain(&r.monte_carlo.note);
+    for e in &mut r.estimates {
+        e.reason = plain(&e.reason);
+        e.defensible_reason = plain(&e.defensible_reason);
+    }
+}
+
 /// One warning naming the rows whose σ intake assumed (see [`crate::intake::Row::note`]), so the
 /// report says what the analyses were given.
 fn row_notes_warning(data: &DataSet) -> Option<String> {
@@ -190,6 +207,18 @@ pub fn analyze_session(
         match &mut analysis {
             Analysis::Levels(r) => r.warnings.push(w),
             Analysis::Bands(b) => b.warnings.push(w),
+        }
+    }
+    match &mut analysis {
+        Analysis::Levels(r) => in_plain_words(r),
+        Analysis::Bands(b) => {
+            b.warnings = b.warnings.iter().map(|w| plain(w)).collect();
+            for r in [&mut b.states.upper, &mut b.states.lower]
+                .into_iter()
+                .flatten()
+            {
+                in_plain_words(r);
+            }
         }
     }
     let methods = crate::methods::methods(&analysis);

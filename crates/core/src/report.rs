@@ -583,6 +583,7 @@ pub fn render_text(r: &Report) -> String {
     let _ = writeln!(s, "{}", "=".repeat(78));
     let _ = writeln!(s, "{}", r.statement);
     let _ = writeln!(s);
+
     let kind = match r.input.kind {
         DataKind::Levels => "levels",
         DataKind::Spacings => "spacings",
@@ -709,9 +710,8 @@ pub fn render_text(r: &Report) -> String {
     for e in &r.estimates {
         let _ = writeln!(
             s,
-            "  {} [{}]{}",
+            "  {}{}",
             e.label,
-            e.method,
             if e.defensible {
                 ""
             } else {
@@ -824,10 +824,16 @@ pub fn render_text(r: &Report) -> String {
         (Some(m), Some(d0)) => {
             let _ = writeln!(
                 s,
-                "  D0 = {d0:.3} ± {} (stat, {}) ± {} (model) cm⁻¹   [{m}]",
+                "  D0 = {d0:.3} ± {} (stat, {}) ± {} (model) cm⁻¹   ({})",
                 num(rec.sigma_stat_cm1, 3),
-                rec.sigma_stat_source.as_deref().unwrap_or("—"),
-                num(rec.sigma_model_cm1, 3)
+                match rec.sigma_stat_source.as_deref() {
+                    Some("monte-carlo") => "Monte Carlo",
+                    Some("covariance") => "from the fit's covariance",
+                    Some(other) => other,
+                    None => "—",
+                },
+                num(rec.sigma_model_cm1, 3),
+                crate::methods::method_name(m)
             );
             if let (Some(lo), Some(hi)) = (rec.d0_low_cm1, rec.d0_high_cm1) {
                 let _ = writeln!(
@@ -849,7 +855,12 @@ pub fn render_text(r: &Report) -> String {
                     "  v_D = {v:.3} (interval {lo:.3} … {hi:.3}); bound levels: {count}"
                 );
             }
-            let _ = writeln!(s, "  admitted estimates: {}", rec.spread_methods.join(", "));
+            let admitted: Vec<&str> = rec
+                .spread_methods
+                .iter()
+                .map(|m| crate::methods::method_name(m))
+                .collect();
+            let _ = writeln!(s, "  admitted estimates: {}", admitted.join(", "));
         }
         _ => {
             let _ = writeln!(s, "  none");
@@ -918,11 +929,10 @@ pub fn render_text(r: &Report) -> String {
 
     let _ = writeln!(
         s,
-        "Monte Carlo: {} (seed {}, {} samples, {})",
+        "Monte Carlo: {} (seed {}, {} samples; the same seed and version give the same draws)",
         if r.monte_carlo.ran { "ran" } else { "not run" },
         r.monte_carlo.seed,
-        r.monte_carlo.samples,
-        r.monte_carlo.generator
+        r.monte_carlo.samples
     );
     let _ = writeln!(s, "  {}", r.monte_carlo.note);
     let _ = writeln!(s);
