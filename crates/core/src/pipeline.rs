@@ -141,6 +141,12 @@ fn in_plain_words(r: &mut Report) {
     for e in &mut r.estimates {
         e.reason = plain(&e.reason);
         e.defensible_reason = plain(&e.defensible_reason);
+        // An order the user forced is not one the data selected.
+        if r.fit.forced {
+            e.label = e
+                .label
+                .replace("the selected order", "the order forced by the settings");
+        }
     }
 }
 

@@ -584,6 +584,81 @@ pub fn render_text(r: &Report) -> String {
     let _ = writeln!(s, "{}", r.statement);
     let _ = writeln!(s);
 
+    // The answer first: the recommended D0 with its interval, De, ωe, ωexe, the order used and
+    // how many warnings follow; every number rounded to its σ as the page shows it.
+    {
+        use crate::format::{pm as pm_sig, value_sigma};
+        let rec = &r.recommended;
+        let _ = writeln!(s, "Summary");
+        match (rec.d0_cm1, &rec.method) {
+            (Some(d0), Some(m)) => {
+                let model = rec
+                    .sigma_model_cm1
+                    .and_then(|sm| value_sigma(d0, Some(sm), 6).1)
+                    .map(|sm| format!(" ± {sm} (model)"))
+                    .unwrap_or_default();
+                let stat = if rec.sigma_stat_cm1.is_some() {
+                    " (stat)"
+                } else {
+                    ""
+                };
+                let _ = writeln!(
+                    s,
+                    "  D0   = {}{stat}{model} cm⁻¹   ({})",
+                    pm_sig(d0, rec.sigma_stat_cm1, 6),
+                    crate::methods::method_name(m)
+                );
+                if let (Some(lo), Some(hi)) = (rec.d0_low_cm1, rec.d0_high_cm1) {
+                    let _ = writeln!(
+                        s,
+                        "         interval {} … {} cm⁻¹",
+                        value_sigma(lo, rec.sigma_stat_cm1, 6).0,
+                        value_sigma(hi, rec.sigma_stat_cm1, 6).0
+                    );
+                }
+                if let Some(de) = rec.de_cm1 {
+                    let _ = writeln!(
+                        s,
+                        "  De   = {} cm⁻¹",
+                        value_sigma(de, rec.sigma_stat_cm1, 6).0
+                    );
+                }
+            }
+            _ => {
+                let _ = writeln!(s, "  D0: no recommended value (see Recommended below)");
+            }
+        }
+        for (name, c) in [("ωe", &r.constants.we_cm1), ("ωexe", &r.constants.wexe_cm1)] {
+            if let Some(c) = c {
+                let _ = writeln!(s, "  {name:<4} = {} cm⁻¹", pm_sig(c.value, c.sigma, 6));
+            }
+        }
+        let _ = writeln!(
+            s,
+            "  G(v) order {}{}",
+            r.fit.order,
+            if r.fit.forced {
+                format!(
+                    ", forced by the settings (the data alone recommend order {})",
+                    r.order_selection.recommended_order
+                )
+            } else {
+                ", chosen by the data".to_string()
+            }
+        );
+        let _ = writeln!(
+            s,
+            "  warnings: {}{}",
+            r.warnings.len(),
+            if r.warnings.is_empty() {
+                ""
+            } else {
+                " (listed under Warnings below)"
+            }
+        );
+        let _ = writeln!(s);
+    }
+
     let kind = match r.input.kind {
         DataKind::Levels => "levels",
         DataKind::Spacings => "spacings",
@@ -645,8 +720,13 @@ pub fn render_text(r: &Report) -> String {
 
     let _ = writeln!(
         s,
-        "Vibrational constants (order-{} fit), cm⁻¹",
-        r.constants.order
+        "Vibrational constants (order-{} fit{}), cm⁻¹",
+        r.constants.order,
+        if r.fit.forced {
+            ", the order forced by the settings"
+        } else {
+            ""
+        }
     );
     let names = [
         ("ωe", &r.constants.we_cm1),
