@@ -204,8 +204,8 @@ test('the scan of user-visible words finds internal names (a check of the check 
   assert.deepEqual(findInternal([['ok', 'LeRoy–Bernstein D0 = 4385 ± 12 cm⁻¹ (Birge–Sponer, CODATA 2022); G(v_top) − G(0); r_e = 2.39 Å']]), []);
 });
 
-test('nothing a user reads after the demo analysis carries internal names or parser messages', async () => {
-  const { page, problems, context } = await fresh();
+/** Every string a user can read on the page now (the printed report view included). */
+async function visibleStrings(page) {
   // Open every collapsed part and build the printed report view, so all of it is in the page.
   await page.evaluate(async () => {
     for (const d of document.querySelectorAll('details')) d.open = true;
@@ -242,9 +242,33 @@ test('nothing a user reads after the demo analysis carries internal names or par
     return out;
   });
   await page.evaluate(() => window.dispatchEvent(new Event('afterprint')));
+  return strings;
+}
+
+test('nothing a user reads after the demo analysis carries internal names or parser messages', async () => {
+  const { page, problems, context } = await fresh();
+  const strings = await visibleStrings(page);
   assert.ok(strings.length > 200, `the page was read (${strings.length} strings)`);
   assert.ok(strings.some(([w]) => w.startsWith('figure ')), 'the figures were read');
   const found = findInternal(strings);
+  assert.deepEqual(found, [], `\n${found.join('\n')}`);
+  clean(problems);
+  await context.close();
+});
+
+test('nor after any other built-in example (spacings, low levels, a band list)', async () => {
+  const { page, problems, context } = await fresh();
+  const ids = await page.$$eval('#examples option', (o) => o.map((x) => x.value).filter(Boolean));
+  assert.ok(ids.length >= 3, `examples: ${ids}`);
+  const found = [];
+  for (const id of ids) {
+    await mark(page);
+    await page.selectOption('#examples', id);
+    await analysed(page);
+    const strings = await visibleStrings(page);
+    assert.ok(strings.length > 100, `${id}: the page was read`);
+    found.push(...findInternal(strings).map((f) => `${id}: ${f}`));
+  }
   assert.deepEqual(found, [], `\n${found.join('\n')}`);
   clean(problems);
   await context.close();

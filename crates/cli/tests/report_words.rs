@@ -147,3 +147,13 @@ fn the_spacings_text_report_uses_the_users_words() {
     let found = findings(&text_report(&["analyze", &demo, "--mc", "200"]));
     assert!(found.is_empty(), "{}", found.join("\n"));
 }
+
+#[test]
+fn the_band_text_report_and_the_low_levels_report_use_the_users_words() {
+    let bands = file("crates/core/data/demo/qz2-bands.session.json");
+    let found = findings(&text_report(&["analyze", &bands, "--mc", "100"]));
+    assert!(found.is_empty(), "bands:\n{}", found.join("\n"));
+    let low = file("crates/core/data/demo/qz2-low-levels.csv");
+    let found = findings(&text_report(&["analyze", &low, "--mc", "100"]));
+    assert!(found.is_empty(), "low levels:\n{}", found.join("\n"));
+}

@@ -62,6 +62,18 @@ pub fn in_plain_words(text: &str) -> String {
         "(its sigma_scale)",
         "(the factor is shown with each method)",
     );
+    // How an iterative fit stopped, in words rather than the solver's names for it.
+    for (name, words) in [
+        ("MaxIterations", "the iteration limit was reached"),
+        ("NoProgress", "no step improved the fit"),
+        ("InvalidStart", "no usable starting point"),
+        ("ParametersConverged", "converged"),
+        ("ChiSquareConverged", "converged"),
+        ("GradientConverged", "converged"),
+        ("ExactFit", "exact fit"),
+    ] {
+        out = out.replace(name, words);
+    }
     // Longest ids first (they are listed so), and only whole ids: "leroy-bernstein" inside
     // "leroy-bernstein-n-free" has been replaced already.
     for (id, name) in METHOD_NAMES {
@@ -256,6 +268,10 @@ mod tests {
             "scaled: linear Birge–Sponer ×57.965, LeRoy–Bernstein ×7, LeRoy–Bernstein (n free) ×3"
         );
         assert_eq!(in_plain_words("x-leroy-bernstein"), "x-leroy-bernstein");
+        assert_eq!(
+            in_plain_words("did not converge (MaxIterations after 400 iterations)"),
+            "did not converge (the iteration limit was reached after 400 iterations)"
+        );
         assert_eq!(
             method_name("near-dissociation-expansion"),
             "near-dissociation expansion"
