@@ -273,3 +273,18 @@ test('nor after any other built-in example (spacings, low levels, a band list)',
   clean(problems);
   await context.close();
 });
+
+test('nor in any energy unit the page offers', async () => {
+  const { page, problems, context } = await fresh();
+  const units = await page.$$eval('#unit option', (o) => o.map((x) => x.value));
+  assert.ok(units.length >= 3, `units: ${units}`);
+  const found = [];
+  for (const unit of units) {
+    await page.selectOption('#unit', unit);
+    await page.waitForFunction(() => document.getElementById('estimates').textContent.length > 0);
+    found.push(...findInternal(await visibleStrings(page)).map((f) => `${unit}: ${f}`));
+  }
+  assert.deepEqual(found, [], `\n${found.join('\n')}`);
+  clean(problems);
+  await context.close();
+});
