@@ -164,6 +164,31 @@ test('figure tabs: arrow keys, Home and End move the selection, one tab stop, fo
   await context.close();
 });
 
+test('figure read-outs from the keyboard: arrow keys, Home and End step through the points', async () => {
+  const { page, problems, context } = await fresh();
+  await page.focus('#figure-panel');
+  const readout = () => page.textContent('#readout');
+  assert.equal(await readout(), '', 'nothing read out before a key');
+  await page.keyboard.press('ArrowRight');
+  const first = await readout();
+  assert.match(first, /^point 1 of (\d+): \S/);
+  const n = Number(first.match(/of (\d+)/)[1]);
+  // The default example's spacings figure shows a point per observed spacing at least.
+  assert.ok(n >= 30, `${n} points`);
+  await page.keyboard.press('ArrowRight');
+  const second = await readout();
+  assert.match(second, /^point 2 of /);
+  assert.notEqual(second.replace(/^point \d+/, ''), first.replace(/^point \d+/, ''), 'another point');
+  await page.keyboard.press('End');
+  assert.match(await readout(), new RegExp(`^point ${n} of ${n}: `));
+  await page.keyboard.press('ArrowRight');
+  assert.match(await readout(), new RegExp(`^point ${n} of ${n}: `), 'stays on the last point');
+  await page.keyboard.press('Home');
+  assert.equal(await readout(), first);
+  clean(problems);
+  await context.close();
+});
+
 /**
  * Patterns that must never reach a user: names of our internal notes and section references
  * to them, method ids, snake_case field paths, Rust enum names, parser messages, and the marks

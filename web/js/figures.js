@@ -19,6 +19,10 @@ export class FigurePanel {
     const canvas = $('figure');
     canvas.addEventListener('mousemove', (e) => this.hover(e));
     canvas.addEventListener('mouseleave', () => { $('readout').textContent = ''; });
+    // From the keyboard: with the figure focused, the arrow keys step through its points,
+    // Home and End go to the first and last; each point is read out below the figure.
+    this.cursor = -1;
+    $('figure-panel').addEventListener('keydown', (e) => this.step(e));
     $('figure-svg').addEventListener('click', () => this.saveSvg());
     $('figure-png').addEventListener('click', () => this.savePng());
     window.addEventListener('resize', () => this.draw());
@@ -83,6 +87,8 @@ export class FigurePanel {
     const json = await this.rpc.call('figure', this.current, this.unit);
     this.chart?.free();
     this.chart = new this.Chart(json);
+    this.cursor = -1;
+    $('readout').textContent = '';
     this.draw();
   }
 
@@ -100,6 +106,17 @@ export class FigurePanel {
     this.chart.draw(canvas, ratio);
     document.body.dataset.shownFigure = this.current;
     document.body.dataset.figureDraws = String(Number(document.body.dataset.figureDraws ?? 0) + 1);
+  }
+
+  step(event) {
+    if (!this.chart || event.target !== $('figure-panel')) return;
+    const n = this.chart.point_count();
+    if (!n) return;
+    const to = { ArrowRight: this.cursor + 1, ArrowDown: this.cursor + 1, ArrowLeft: this.cursor - 1, ArrowUp: this.cursor - 1, Home: 0, End: n - 1 }[event.key];
+    if (to === undefined) return;
+    event.preventDefault();
+    this.cursor = Math.min(n - 1, Math.max(0, to));
+    $('readout').textContent = `point ${this.cursor + 1} of ${n}: ${this.chart.point_readout(this.cursor) ?? ''}`;
   }
 
   hover(event) {
