@@ -129,3 +129,49 @@ fn a_forced_order_is_reported_as_forced() {
         "{text}"
     );
 }
+
+#[test]
+fn the_band_text_report_opens_with_a_summary() {
+    let session = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("../../crates/core/data/demo/qz2-bands.session.json")
+        .to_string_lossy()
+        .into_owned();
+    let text = ok_text(&rungs(&["analyze", &session, "--mc", "100"]));
+    let json: serde_json::Value = serde_json::from_slice(
+        &rungs(&["analyze", &session, "--mc", "100", "--format", "json"]).stdout,
+    )
+    .expect("JSON");
+    let summary_at = text.find("Summary").expect("a summary");
+    let detail_at = text.find("Data:").expect("the detail");
+    assert!(
+        summary_at < detail_at,
+        "the summary comes before the detail"
+    );
+    let summary = &text[summary_at..detail_at];
+    let t00 = number_after(summary, "T00");
+    assert!(
+        (t00 - json["t00_cm1"]["value"].as_f64().unwrap()).abs() < 0.01,
+        "{summary}"
+    );
+    for (state, prime) in [("upper", "′"), ("lower", "″")] {
+        let line = summary
+            .lines()
+            .find(|l| l.trim_start().starts_with(&format!("{state} state:")))
+            .unwrap_or_else(|| panic!("{state} state in {summary}"));
+        let d0 = json["states"][state]["recommended"]["d0_cm1"]
+            .as_f64()
+            .unwrap();
+        let shown = number_after(line, &format!("{state} state: D0{prime} ="));
+        assert!((shown - d0).abs() < 1.0, "{line} vs {d0}");
+        assert!(
+            line.contains(&format!("ωe{prime} = ")) && line.contains(&format!("ωexe{prime} = ")),
+            "{line}"
+        );
+    }
+    assert!(summary.contains("E_lim"), "{summary}");
+    let n = json["warnings"].as_array().unwrap().len();
+    assert!(
+        summary.contains(&format!("warnings: {n} for the band list")),
+        "{summary}"
+    );
+}
