@@ -2,7 +2,7 @@
 // controls to correct it, and a scrolling table of every input row with its status. Rows are
 // fetched from the worker in pages, so a table of 100 000 rows scrolls without freezing.
 
-import { el, clear, $ } from './dom.js';
+import { el, clear, keepFocus, $ } from './dom.js';
 
 const ROW_HEIGHT = 28;
 const PAGE = 200;
@@ -23,12 +23,15 @@ export class DataPanel {
     this.box.addEventListener('scroll', () => this.paint());
   }
 
+  /** Show a new reading; the focused control (a row's switch, a column's role…) keeps the focus. */
   show(reading) {
     this.reading = reading;
     this.pages.clear();
     $('data-panel').hidden = false;
-    this.renderReading();
-    this.renderRows();
+    return keepFocus($('data-panel'), () => {
+      this.renderReading();
+      return this.renderRows();
+    });
   }
 
   renderReading() {
@@ -63,7 +66,7 @@ export class DataPanel {
     if (r.diagnostics.length) {
       host.append(el('details', { class: 'remarks' },
         el('summary', {}, `${r.diagnostics.length} remark(s) on the reading`),
-        el('ul', {}, r.diagnostics.map((d) => el('li', { class: d.severity }, d.row ? `row ${d.row}: ` : '', d.message)))));
+        el('ul', {}, r.diagnostics.map((d) => el('li', { class: d.severity }, d.message)))));
     }
   }
 
@@ -92,9 +95,10 @@ export class DataPanel {
     this.spacer = el('div', { class: 'spacer' });
     this.spacer.style.height = `${r.n_rows * ROW_HEIGHT}px`; // CSSOM: allowed by the page's CSP
     this.windowEl = el('div', { class: 'window' });
+    this.shown = new Map();
     this.box.append(this.head, this.spacer);
     this.spacer.append(this.windowEl);
-    this.paint();
+    return this.paint();
   }
 
   async page(k) {
@@ -120,9 +124,21 @@ export class DataPanel {
         if (index >= top && index < end) rows.push([index, row]);
       });
     }
-    clear(this.windowEl);
+    // Rows still in view keep their elements (a focused switch or σ field must survive a
+    // scroll); rows leaving the view are removed, rows entering it are added in order.
+    const lines = new Set(rows.map(([, row]) => row.line));
+    for (const [line, node] of this.shown) {
+      if (!lines.has(line)) { node.remove(); this.shown.delete(line); }
+    }
+    let before = this.windowEl.firstChild;
+    for (const [, row] of rows) {
+      const kept = this.shown.get(row.line);
+      if (kept) { before = kept.nextSibling; continue; }
+      const node = this.rowElement(row);
+      this.shown.set(row.line, node);
+      this.windowEl.insertBefore(node, before);
+    }
     this.windowEl.style.transform = `translateY(${top * ROW_HEIGHT}px)`;
-    for (const [, row] of rows) this.windowEl.append(this.rowElement(row));
   }
 
   rowElement(row) {
@@ -138,11 +154,12 @@ export class DataPanel {
         type: 'text', value: (row.reasons[0] ?? '').replace(/^excluded by you: /, ''), 'aria-label': `Reason for excluding row ${row.line}`,
         onchange: (e) => this.onChange({ op: 'exclude', row: row.line, reason: e.target.value || 'excluded by you (no reason given)' }),
       }))
-      : el('span', { class: 'c-why', title: row.reasons.join('; ') }, usable ? 'used' : row.reasons.join('; '));
+      : el('span', { class: 'c-why', title: row.note ?? row.reasons.join('; ') }, usable ? (row.note ? `used; ${row.note}` : 'used') : row.reasons.join('; '));
     const sigmaColumn = this.reading.columns.findIndex((c) => c.role === 'sigma');
     const shown = row.sigma_edited ?? (sigmaColumn >= 0 ? row.cells[sigmaColumn] : '');
     const sigma = el('span', { class: 'c-sigma' }, el('input', {
       type: 'text', inputmode: 'decimal', value: shown ?? '', class: row.sigma_edited !== null && row.sigma_edited !== undefined ? 'edited' : '',
+      placeholder: row.note ? 'median' : '',
       'aria-label': `Uncertainty of row ${row.line}`,
       onchange: (e) => {
         const t = e.target.value.trim();
@@ -156,7 +173,7 @@ export class DataPanel {
         this.onChange({ op: 'sigma', row: row.line, sigma: t === '' ? null : x });
       },
     }));
-    return el('div', { class: `row ${row.status}`, role: 'row', 'data-line': row.line },
+    return el('div', { class: `row ${row.status}${row.note ? ' assumed' : ''}`, role: 'row', 'data-line': row.line },
       el('span', { class: 'c-line' }, row.line),
       toggle,
       this.reading.columns.map((c, i) => el('span', { class: 'c-cell' }, row.cells[i] ?? '')),

@@ -50,3 +50,25 @@ export function table(head, rows, caption) {
     el('thead', {}, el('tr', {}, head.map((h) => cell('th', h)))),
     el('tbody', {}, rows.map((r) => el('tr', { class: r.class }, (r.cells ?? r).map((c) => cell('td', c))))));
 }
+
+/** A selector that finds the same control again after its container is redrawn. */
+function focusKey(node) {
+  if (!(node instanceof Element) || node === document.body) return null;
+  for (const a of ['id', 'aria-label', 'name', 'data-figure']) {
+    const v = node.getAttribute(a);
+    if (v) return `${node.tagName.toLowerCase()}[${a}="${CSS.escape(v)}"]`;
+  }
+  return null;
+}
+
+/**
+ * Redraw part of the page without losing the keyboard focus: when the focused control sits in
+ * `container`, the control with the same id, label or name gets the focus back afterwards.
+ */
+export async function keepFocus(container, redraw) {
+  const active = document.activeElement;
+  const key = container.contains(active) ? focusKey(active) : null;
+  await redraw();
+  if (!key || (document.activeElement && document.activeElement !== document.body && document.activeElement.isConnected && container.contains(document.activeElement) && document.activeElement.matches(key))) return;
+  container.querySelector(key)?.focus();
+}

@@ -78,6 +78,14 @@ export async function openShare(rpc) {
 
 // --- printable report ------------------------------------------------------------------
 
+/** The mass setting in words: "μ = 14.5 u" or "7Li + 35Cl". */
+function massText(mass) {
+  if (!mass) return 'not given';
+  if (mass.kind === 'reduced_mass') return `μ = ${mass.mu_u} u`;
+  if (mass.kind === 'nuclides') return `${mass.a} + ${mass.b}`;
+  return 'given';
+}
+
 /** Build the printable report of `doc` (the analysis JSON object) and open the print dialog. */
 export async function printReport(rpc, Chart, doc, results, unit, unitLabel, meta) {
   const view = clear($('print-view'));
@@ -93,7 +101,7 @@ export async function printReport(rpc, Chart, doc, results, unit, unitLabel, met
       ['input SHA-256', doc.input_sha256 ?? '—'],
       ['rows', doc.rows ? `${doc.rows.used} used of ${doc.rows.total}` : '—'],
       ['Monte Carlo', `${doc.settings.mc_samples} draws, seed ${doc.settings.seed}`],
-      ['mass', doc.settings.mass ? JSON.stringify(doc.settings.mass) : 'not given'],
+      ['mass', massText(doc.settings.mass)],
       ['energies shown in', unitLabel],
       ['printed', meta.printed],
     ], null));

@@ -163,7 +163,7 @@ export class Results {
         : '—';
       const cls = e.defensible ? 'defensible' : 'other';
       body.push(el('tr', { class: `${cls} name-row`, 'data-method': e.method },
-        el('th', { scope: 'rowgroup', colspan: head.length, title: e.method },
+        el('th', { scope: 'rowgroup', colspan: head.length },
           e.label, el('span', { class: 'in-rec' }, e.defensible ? ' · in the recommendation' : ' · not in the recommendation'),
           e.d0_cm1 === null || e.sigma_scale === null || e.sigma_scale === undefined || e.sigma_scale === 1 ? null
             : el('span', { class: 'in-rec', title: 'factor applied to the data σ for this method: √χ²ν of its own fit under the σ-scaling setting' },
@@ -227,6 +227,6 @@ export class Results {
       el('h3', {}, 'Each number rests on'), el('ul', {}, report.assumptions.map((a) => el('li', {}, a))),
       el('h3', {}, 'Conventions'), el('ul', {}, report.conventions.map((a) => el('li', {}, a))),
       report.uncertainty ? el('p', {}, `Uncertainty: ${report.uncertainty.note}`) : null,
-      report.monte_carlo ? el('p', {}, `Monte Carlo: ${report.monte_carlo.ran ? `${report.monte_carlo.samples} draws, seed ${report.monte_carlo.seed} (${report.monte_carlo.generator})` : 'not run'} — ${report.monte_carlo.note}`) : null);
+      report.monte_carlo ? el('p', {}, `Monte Carlo: ${report.monte_carlo.ran ? `${report.monte_carlo.samples} draws, seed ${report.monte_carlo.seed} (the same seed and version give the same draws)` : 'not run'} — ${report.monte_carlo.note}`) : null);
   }
 }

@@ -1,7 +1,7 @@
 // The analysis-settings form. It edits the session's AnalysisSettings object as plain data and
 // hands it back; validation and every consequence are core's.
 
-import { el, clear, $ } from './dom.js';
+import { el, clear, keepFocus, $ } from './dom.js';
 
 const FIELDS = [
   { key: 'mc_samples', label: 'Monte Carlo samples', type: 'int', help: '0 disables Monte Carlo' },
@@ -21,7 +21,12 @@ export class SettingsForm {
     this.settings = null;
   }
 
+  /** Show the settings in force; a focused field keeps the focus. */
   show(settings, kind) {
+    return keepFocus($('settings'), () => this.draw(settings, kind));
+  }
+
+  draw(settings, kind) {
     this.settings = settings;
     const form = clear($('settings'));
     const mass = settings.mass;

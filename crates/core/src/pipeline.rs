@@ -57,6 +57,46 @@ pub fn rows_summary(data: &DataSet) -> RowsSummary {
     }
 }
 
+fn plain(text: &str) -> String {
+    crate::methods::in_plain_words(text)
+}
+
+/// The analyses' messages that people read, with method ids written as names (the ids stay in
+/// the fields made for programs, such as `Estimate::method`).
+fn in_plain_words(r: &mut Report) {
+    r.warnings = r.warnings.iter().map(|w| plain(w)).collect();
+    r.uncertainty.note = plain(&r.uncertainty.note);
+    r.recommended.reason = plain(&r.recommended.reason);
+    r.monte_carlo.note = plain(&r.monte_carlo.note);
+    for e in &mut r.estimates {
+        e.reason = plain(&e.reason);
+        e.defensible_reason = plain(&e.defensible_reason);
+        // An order the user forced is not one the data selected.
+        if r.fit.forced {
+            e.label = e
+                .label
+                .replace("the selected order", "the order forced by the settings");
+        }
+    }
+}
+
+/// One warning naming the rows whose σ intake assumed (see [`crate::intake::Row::note`]), so the
+/// report says what the analyses were given.
+fn row_notes_warning(data: &DataSet) -> Option<String> {
+    let noted: Vec<_> = data
+        .usable_rows()
+        .filter_map(|r| r.note.as_ref().map(|n| (r.line, n)))
+        .collect();
+    let (_, note) = noted.first()?;
+    let lines = noted
+        .iter()
+        .map(|(l, _)| l.to_string())
+        .collect::<Vec<_>>()
+        .join(", ");
+    let what = if noted.len() == 1 { "row" } else { "rows" };
+    Some(format!("{what} {lines}: {note}"))
+}
+
 /// Analyse a session: read its table, resolve the mass, run the analysis for its kind of data.
 ///
 /// `progress(done, total)` is called as the Monte Carlo draws advance.
@@ -110,6 +150,24 @@ pub fn analyze_session(
             Analysis::Bands(Box::new(report))
         }
     };
+    if let Some(w) = row_notes_warning(&data) {
+        match &mut analysis {
+            Analysis::Levels(r) => r.warnings.push(w),
+            Analysis::Bands(b) => b.warnings.push(w),
+        }
+    }
+    match &mut analysis {
+        Analysis::Levels(r) => in_plain_words(r),
+        Analysis::Bands(b) => {
+            b.warnings = b.warnings.iter().map(|w| plain(w)).collect();
+            for r in [&mut b.states.upper, &mut b.states.lower]
+                .into_iter()
+                .flatten()
+            {
+                in_plain_words(r);
+            }
+        }
+    }
     let methods = crate::methods::methods(&analysis);
     let hash = crate::methods::sha256_hex(&session.input.text);
     match &mut analysis {
@@ -162,5 +220,28 @@ mod tests {
         );
         assert_eq!(report.session.as_ref(), Some(&session));
         assert_eq!(report.levels.len(), 4);
+    }
+
+    /// One empty σ cell among given σ must not stop the analysis (issue 14): the row uses the
+    /// median of the given σ and the report's warnings name it.
+    #[test]
+    fn one_missing_sigma_does_not_stop_the_analysis() {
+        let text = "v,E,sigma\n0,0,0.1\n1,980.3,0.3\n2,1939.8,0.2\n3,2880.2,\n4,3799.9,0.5\n5,4700.1,0.4\n";
+        let settings = AnalysisSettings {
+            mc_samples: 0,
+            ..Default::default()
+        };
+        let session = Session::new(text, None, IntakeOptions::default(), settings);
+        let analysis = analyze_session(&session, &mut |_, _| {}).expect("the analysis runs");
+        let report = analysis.as_levels().unwrap();
+        assert_eq!(report.rows.as_ref().unwrap().used, 6);
+        assert!(
+            report
+                .warnings
+                .iter()
+                .any(|w| w.contains("row 5") && w.contains("median")),
+            "{:?}",
+            report.warnings
+        );
     }
 }

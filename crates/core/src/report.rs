@@ -630,6 +630,82 @@ pub fn render_text(r: &Report) -> String {
     let _ = writeln!(s, "{}", "=".repeat(78));
     let _ = writeln!(s, "{}", r.statement);
     let _ = writeln!(s);
+
+    // The answer first: the recommended D0 with its interval, De, ωe, ωexe, the order used and
+    // how many warnings follow; every number rounded to its σ as the page shows it.
+    {
+        use crate::format::{pm as pm_sig, value_sigma};
+        let rec = &r.recommended;
+        let _ = writeln!(s, "Summary");
+        match (rec.d0_cm1, &rec.method) {
+            (Some(d0), Some(m)) => {
+                let model = rec
+                    .sigma_model_cm1
+                    .and_then(|sm| value_sigma(d0, Some(sm), 6).1)
+                    .map(|sm| format!(" ± {sm} (model)"))
+                    .unwrap_or_default();
+                let stat = if rec.sigma_stat_cm1.is_some() {
+                    " (stat)"
+                } else {
+                    ""
+                };
+                let _ = writeln!(
+                    s,
+                    "  D0   = {}{stat}{model} cm⁻¹   ({})",
+                    pm_sig(d0, rec.sigma_stat_cm1, 6),
+                    crate::methods::method_name(m)
+                );
+                if let (Some(lo), Some(hi)) = (rec.d0_low_cm1, rec.d0_high_cm1) {
+                    let _ = writeln!(
+                        s,
+                        "         interval {} … {} cm⁻¹",
+                        value_sigma(lo, rec.sigma_stat_cm1, 6).0,
+                        value_sigma(hi, rec.sigma_stat_cm1, 6).0
+                    );
+                }
+                if let Some(de) = rec.de_cm1 {
+                    let _ = writeln!(
+                        s,
+                        "  De   = {} cm⁻¹",
+                        value_sigma(de, rec.sigma_stat_cm1, 6).0
+                    );
+                }
+            }
+            _ => {
+                let _ = writeln!(s, "  D0: no recommended value (see Recommended below)");
+            }
+        }
+        for (name, c) in [("ωe", &r.constants.we_cm1), ("ωexe", &r.constants.wexe_cm1)] {
+            if let Some(c) = c {
+                let _ = writeln!(s, "  {name:<4} = {} cm⁻¹", pm_sig(c.value, c.sigma, 6));
+            }
+        }
+        let _ = writeln!(
+            s,
+            "  G(v) order {}{}",
+            r.fit.order,
+            if r.fit.forced {
+                format!(
+                    ", forced by the settings (the data alone recommend order {})",
+                    r.order_selection.recommended_order
+                )
+            } else {
+                ", chosen by the data".to_string()
+            }
+        );
+        let _ = writeln!(
+            s,
+            "  warnings: {}{}",
+            r.warnings.len(),
+            if r.warnings.is_empty() {
+                ""
+            } else {
+                " (listed under Warnings below)"
+            }
+        );
+        let _ = writeln!(s);
+    }
+
     let kind = match r.input.kind {
         DataKind::Levels => "levels",
         DataKind::Spacings => "spacings",
@@ -691,8 +767,13 @@ pub fn render_text(r: &Report) -> String {
 
     let _ = writeln!(
         s,
-        "Vibrational constants (order-{} fit), cm⁻¹",
-        r.constants.order
+        "Vibrational constants (order-{} fit{}), cm⁻¹",
+        r.constants.order,
+        if r.fit.forced {
+            ", the order forced by the settings"
+        } else {
+            ""
+        }
     );
     let names = [
         ("ωe", &r.constants.we_cm1),
@@ -756,9 +837,8 @@ pub fn render_text(r: &Report) -> String {
     for e in &r.estimates {
         let _ = writeln!(
             s,
-            "  {} [{}]{}",
+            "  {}{}",
             e.label,
-            e.method,
             if e.defensible {
                 ""
             } else {
@@ -891,10 +971,16 @@ pub fn render_text(r: &Report) -> String {
         (Some(m), Some(d0)) => {
             let _ = writeln!(
                 s,
-                "  D0 = {d0:.3} ± {} (stat, {}) ± {} (model) cm⁻¹   [{m}]",
+                "  D0 = {d0:.3} ± {} (stat, {}) ± {} (model) cm⁻¹   ({})",
                 num(rec.sigma_stat_cm1, 3),
-                rec.sigma_stat_source.as_deref().unwrap_or("—"),
-                num(rec.sigma_model_cm1, 3)
+                match rec.sigma_stat_source.as_deref() {
+                    Some("monte-carlo") => "Monte Carlo",
+                    Some("covariance") => "from the fit's covariance",
+                    Some(other) => other,
+                    None => "—",
+                },
+                num(rec.sigma_model_cm1, 3),
+                crate::methods::method_name(m)
             );
             if let (Some(lo), Some(hi)) = (rec.d0_low_cm1, rec.d0_high_cm1) {
                 let _ = writeln!(
@@ -916,7 +1002,12 @@ pub fn render_text(r: &Report) -> String {
                     "  v_D = {v:.3} (interval {lo:.3} … {hi:.3}); bound levels: {count}"
                 );
             }
-            let _ = writeln!(s, "  admitted estimates: {}", rec.spread_methods.join(", "));
+            let admitted: Vec<&str> = rec
+                .spread_methods
+                .iter()
+                .map(|m| crate::methods::method_name(m))
+                .collect();
+            let _ = writeln!(s, "  admitted estimates: {}", admitted.join(", "));
         }
         (Some(m), None) if !rec.d0_determined => {
             let _ = writeln!(
@@ -1008,11 +1099,10 @@ pub fn render_text(r: &Report) -> String {
 
     let _ = writeln!(
         s,
-        "Monte Carlo: {} (seed {}, {} samples, {})",
+        "Monte Carlo: {} (seed {}, {} samples; the same seed and version give the same draws)",
         if r.monte_carlo.ran { "ran" } else { "not run" },
         r.monte_carlo.seed,
-        r.monte_carlo.samples,
-        r.monte_carlo.generator
+        r.monte_carlo.samples
     );
     let _ = writeln!(s, "  {}", r.monte_carlo.note);
     let _ = writeln!(s);

@@ -57,6 +57,16 @@ impl Chart {
         rungs_plot::to_svg(&self.chart, width, height).map_err(js_err)
     }
 
+    /// How many data points a keyboard user can step through (every point layer, in order).
+    pub fn point_count(&self) -> usize {
+        self.points().count()
+    }
+
+    /// The read-out of point `i` (0-based, counted over every point layer in order).
+    pub fn point_readout(&self, i: usize) -> Option<String> {
+        self.points().nth(i)
+    }
+
     /// The read-out of the point nearest to CSS pixel (x, y) on the last drawing.
     pub fn pick(&self, x_css: f64, y_css: f64) -> Option<String> {
         let (frame, ratio) = self.drawn.as_ref()?;
@@ -71,5 +81,18 @@ impl Chart {
             Mark::Points { points, .. } => Some(points[pi].tag.clone()),
             _ => None,
         }
+    }
+}
+
+impl Chart {
+    /// The read-outs of every point, layer by layer.
+    fn points(&self) -> impl Iterator<Item = String> + '_ {
+        self.chart
+            .layers
+            .iter()
+            .flat_map(|layer| match &layer.mark {
+                Mark::Points { points, .. } => points.iter().map(|p| p.tag.clone()).collect(),
+                _ => Vec::new(),
+            })
     }
 }

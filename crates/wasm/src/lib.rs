@@ -172,6 +172,8 @@ struct RowDto<'a> {
     observation: &'a Option<intake::Observation>,
     /// σ the user typed for this row (value column's unit), if any.
     sigma_edited: Option<f64>,
+    /// What intake assumed for the row (such as a σ taken from the others), if anything.
+    note: Option<&'a str>,
 }
 
 /// A change to how the table is read, sent by the page.
@@ -453,6 +455,7 @@ impl Workbench {
                     .iter()
                     .find(|e| e.row == r.line)
                     .map(|e| e.sigma),
+                note: r.note.as_deref(),
             })
             .collect();
         to_js(&rows)

@@ -522,7 +522,7 @@ pub fn analyze_bands_with_progress(
             }
         } else if sigma_given {
             warnings.push(format!(
-                "band heads used as origins without rotational constants: every σ widened by {} cm⁻¹ in quadrature (bands.head_sigma_cm1) to cover the drift of the head–origin offset along the progressions; its constant part goes into T00 and Te, which are therefore uncertain by that offset (typically 0.1 to a few cm⁻¹, more for light molecules) — give B′ and B″ to correct the heads",
+                "band heads used as origins without rotational constants: every σ widened by {} cm⁻¹ in quadrature (the head allowance: a setting, --head-sigma on the command line) to cover the drift of the head–origin offset along the progressions; its constant part goes into T00 and Te, which are therefore uncertain by that offset (typically 0.1 to a few cm⁻¹, more for light molecules) — give B′ and B″ to correct the heads",
                 bs.head_sigma_cm1
             ));
         } else {
@@ -1126,11 +1126,12 @@ fn convergence_limit(
         d0_lower_sigma_model_cm1: e_atom.and(s_model),
         d0_lower_from_levels_cm1: lower_own,
         note: format!(
-            "E_lim = T00 (global fit) + D0′ (upper state, {method}); σ_stat adds the two σ in quadrature, neglecting their correlation (both come from the same bands; T00's σ is usually the smaller); σ_model is that of D0′{}",
+            "E_lim = T00 (global fit) + D0′ (upper state, {}); σ_stat adds the two σ in quadrature, neglecting their correlation (both come from the same bands; T00's σ is usually the smaller); σ_model is that of D0′{}",
+            crate::methods::method_name(&method),
             if e_atom.is_some() {
                 "; D0″ = E_lim − E_atom with E_atom as typed (taken as exact)"
             } else {
-                "; give the atomic excitation energy of the upper state's asymptote (bands.atomic_excitation_cm1) for D0″"
+                "; give the atomic excitation energy of the upper state's asymptote (a setting, --atomic-excitation on the command line) for D0″"
             }
         ),
     }

@@ -431,6 +431,86 @@ fn render_array(s: &mut String, a: &DeslandresArray) {
     }
 }
 
+/// The answer first: T00, each state's recommended D0 and ωe, ωexe (from the global fit), the
+/// convergence limit, the orders and how many warnings follow; numbers rounded to their σ.
+fn render_band_summary(s: &mut String, r: &BandReport) {
+    use crate::format::{pm, value_sigma};
+    use std::fmt::Write;
+    let _ = writeln!(s, "Summary");
+    let _ = writeln!(
+        s,
+        "  T00 = {} cm⁻¹",
+        pm(r.t00_cm1.value, r.t00_cm1.sigma, 6)
+    );
+    let g = &r.global_fit;
+    for (name, prime, state, constants) in [
+        ("upper", "′", &r.states.upper, &g.upper),
+        ("lower", "″", &r.states.lower, &g.lower),
+    ] {
+        let mut parts = Vec::new();
+        match state.as_ref().map(|st| &st.recommended) {
+            Some(rec) => match (rec.d0_cm1, &rec.method) {
+                (Some(d0), Some(m)) => {
+                    let model = rec
+                        .sigma_model_cm1
+                        .and_then(|sm| value_sigma(d0, Some(sm), 6).1)
+                        .map(|sm| format!(" ± {sm} (model)"))
+                        .unwrap_or_default();
+                    parts.push(format!(
+                        "D0{prime} = {}{}{model} cm⁻¹ ({})",
+                        pm(d0, rec.sigma_stat_cm1, 6),
+                        if rec.sigma_stat_cm1.is_some() {
+                            " (stat)"
+                        } else {
+                            ""
+                        },
+                        crate::methods::method_name(m)
+                    ));
+                }
+                _ => parts.push(format!("D0{prime}: no recommended value")),
+            },
+            None => parts.push(format!("D0{prime}: not analysed")),
+        }
+        if let Some(c) = constants {
+            for (sym, x) in [("ωe", &c.we_cm1), ("ωexe", &c.wexe_cm1)] {
+                if let Some(x) = x {
+                    parts.push(format!("{sym}{prime} = {} cm⁻¹", pm(x.value, x.sigma, 6)));
+                }
+            }
+        }
+        let _ = writeln!(s, "  {name} state: {}", parts.join("; "));
+    }
+    if let Some(lim) = &r.convergence.upper_limit_cm1 {
+        let _ = writeln!(
+            s,
+            "  upper-state limit above v″ = 0: E_lim = T00 + D0′ = {} cm⁻¹",
+            pm(lim.value, lim.sigma, 6)
+        );
+    }
+    let _ = writeln!(
+        s,
+        "  global fit orders ({}, {}), {}",
+        g.order_upper,
+        g.order_lower,
+        if g.forced {
+            "forced by the settings"
+        } else {
+            "chosen by the data"
+        }
+    );
+    let state_warnings: usize = [&r.states.upper, &r.states.lower]
+        .into_iter()
+        .flatten()
+        .map(|st| st.warnings.len())
+        .sum();
+    let _ = writeln!(
+        s,
+        "  warnings: {} for the band list, {state_warnings} for the two states (listed below)",
+        r.warnings.len()
+    );
+    let _ = writeln!(s);
+}
+
 /// Renders a band analysis as readable plain text (both states' single-state reports included).
 pub fn render_band_text(r: &BandReport) -> String {
     use std::fmt::Write;
@@ -443,6 +523,7 @@ pub fn render_band_text(r: &BandReport) -> String {
     let _ = writeln!(s, "{}", "=".repeat(78));
     let _ = writeln!(s, "{}", r.statement);
     let _ = writeln!(s);
+    render_band_summary(&mut s, r);
     let _ = writeln!(
         s,
         "Data: {} bands, v′ = {} … {}, v″ = {} … {}; {}{}; σ {}",

@@ -499,6 +499,9 @@ pub struct Row {
     pub problems: Vec<RowProblem>,
     /// The user's reason, when the user excluded the row.
     pub user_reason: Option<String>,
+    /// What intake assumed for a usable row (such as a σ taken from the other rows), if anything.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub note: Option<String>,
 }
 
 impl Row {
@@ -992,6 +995,7 @@ pub fn read_table(text: &str, options: &IntakeOptions) -> Result<DataSet> {
 
     apply_user_exclusions(&mut rows, &options.exclusions, &mut diagnostics);
     mark_duplicates(&mut rows);
+    fill_missing_sigma(&mut rows, &mut diagnostics);
     table_remarks(kind, &columns, &rows, &mut diagnostics);
 
     Ok(DataSet {

@@ -278,6 +278,7 @@ impl Plan {
                 observation,
                 problems,
                 user_reason: None,
+                note: None,
             },
             commas,
         )
@@ -480,6 +481,73 @@ pub(super) fn mark_duplicates(rows: &mut [Row]) {
     }
 }
 
+/// The one rule for a table where some usable rows give σ and others do not: each row without σ
+/// uses the median of the given σ (in cm⁻¹), so one empty cell never stops the analyses. Every
+/// such row gets a note and a warning naming it, and the table a warning counting them.
+pub(super) fn fill_missing_sigma(rows: &mut [Row], diagnostics: &mut Vec<Diagnostic>) {
+    let mut given: Vec<f64> = rows
+        .iter()
+        .filter(|r| r.is_usable())
+        .filter_map(sigma_of)
+        .collect();
+    let missing: Vec<usize> = rows
+        .iter()
+        .enumerate()
+        .filter(|(_, r)| r.is_usable() && sigma_of(r).is_none())
+        .map(|(i, _)| i)
+        .collect();
+    if given.is_empty() || missing.is_empty() {
+        return;
+    }
+    crate::sorting::sort_by(&mut given, f64::total_cmp);
+    let n = given.len();
+    let median_cm1 = if n % 2 == 1 {
+        given[n / 2]
+    } else {
+        0.5 * (given[n / 2 - 1] + given[n / 2])
+    };
+    let shown = crate::format::significant(median_cm1, 3);
+    let note = format!("no σ given: the median of the given σ, {shown} cm⁻¹, is used");
+    let mut lines = Vec::with_capacity(missing.len());
+    for i in missing {
+        let row = &mut rows[i];
+        match row.observation.as_mut() {
+            Some(Observation::Level(l)) => l.sigma_cm1 = Some(median_cm1),
+            Some(Observation::Spacing(s)) => s.sigma_cm1 = Some(median_cm1),
+            Some(Observation::Band(b)) => b.sigma_cm1 = Some(median_cm1),
+            None => continue,
+        }
+        row.note = Some(note.clone());
+        lines.push(row.line);
+        diagnostics.push(Diagnostic {
+            severity: Severity::Warning,
+            row: Some(row.line),
+            column: None,
+            message: format!("row {}: {note}", row.line),
+        });
+    }
+    let list = lines
+        .iter()
+        .map(usize::to_string)
+        .collect::<Vec<_>>()
+        .join(", ");
+    let (rows_word, use_word) = if lines.len() == 1 {
+        ("row", "uses")
+    } else {
+        ("rows", "use")
+    };
+    diagnostics.push(Diagnostic {
+        severity: Severity::Warning,
+        row: None,
+        column: None,
+        message: format!(
+            "{} of {} usable rows have no uncertainty σ while the others do: {rows_word} {list}              {use_word} the median of the given σ, {shown} cm⁻¹",
+            lines.len(),
+            lines.len() + n
+        ),
+    });
+}
+
 /// Remarks about the table as a whole.
 pub(super) fn table_remarks(
     kind: DataKind,
@@ -535,23 +603,13 @@ pub(super) fn table_remarks(
             ),
         });
     }
+    // A table with σ on some rows only was completed by `fill_missing_sigma`.
     let with_sigma = rows
         .iter()
         .filter(|r| r.is_usable())
         .filter(|r| sigma_of(r).is_some())
         .count();
     let usable = rows.iter().filter(|r| r.is_usable()).count();
-    if with_sigma > 0 && with_sigma < usable {
-        diagnostics.push(Diagnostic {
-            severity: Severity::Warning,
-            row: None,
-            column: None,
-            message: format!(
-                "{} of {usable} usable rows have no uncertainty σ while the others do",
-                usable - with_sigma
-            ),
-        });
-    }
     if with_sigma == 0 && usable > 0 {
         diagnostics.push(Diagnostic {
             severity: Severity::Info,

@@ -315,3 +315,58 @@ fn sigma_edits_replace_the_table_sigma() {
             .all(|r| r.is_usable())
     );
 }
+
+/// One empty σ cell among given σ: that row takes the median of the given σ (the rule of this
+/// tool, no source), is noted as such, and the reading warns naming the row. The median of
+/// 0.1, 0.3, 0.2, 0.5, 0.4 is 0.3, typed here.
+#[test]
+fn one_missing_sigma_takes_the_median_of_the_given_ones() {
+    let d = read(
+        "v,E,sigma\n0,0,0.1\n1,980.3,0.3\n2,1939.8,0.2\n3,2880.2,\n4,3799.9,0.5\n5,4700.1,0.4\n",
+    );
+    assert_eq!(d.usable_count(), 6);
+    let row = d.rows.iter().find(|r| r.line == 5).expect("row 5");
+    assert!(row.is_usable());
+    let levels = d.levels().expect("levels");
+    let l3 = levels.iter().find(|l| l.v == 3).expect("v = 3");
+    assert_eq!(l3.sigma_cm1, Some(0.3));
+    let note = row.note.as_deref().expect("a note on the row");
+    assert!(note.contains("median"), "{note}");
+    assert!(
+        d.diagnostics.iter().any(|g| g.row == Some(5)
+            && g.severity == Severity::Warning
+            && g.message.contains("row 5")),
+        "{:?}",
+        d.diagnostics
+    );
+    // The rows with σ keep their own and carry no note.
+    assert!(
+        d.rows
+            .iter()
+            .filter(|r| r.line != 5)
+            .all(|r| r.note.is_none())
+    );
+    assert_eq!(
+        levels.iter().find(|l| l.v == 1).unwrap().sigma_cm1,
+        Some(0.3)
+    );
+    assert_eq!(
+        levels.iter().find(|l| l.v == 2).unwrap().sigma_cm1,
+        Some(0.2)
+    );
+}
+
+/// A σ the user types for the row wins over the median, and then no note is made.
+#[test]
+fn a_typed_sigma_replaces_the_median() {
+    let mut o = IntakeOptions::default();
+    o.set_sigma(5, 0.7);
+    let d = read_with(
+        "v,E,sigma\n0,0,0.1\n1,980.3,0.3\n2,1939.8,0.2\n3,2880.2,\n4,3799.9,0.5\n5,4700.1,0.4\n",
+        &o,
+    );
+    let row = d.rows.iter().find(|r| r.line == 5).unwrap();
+    assert_eq!(row.note, None);
+    let l3 = d.levels().unwrap().into_iter().find(|l| l.v == 3).unwrap();
+    assert_eq!(l3.sigma_cm1, Some(0.7));
+}
