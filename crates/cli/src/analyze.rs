@@ -128,7 +128,7 @@ fn rotation(text: &str, flag: &str) -> Result<StateRotation, String> {
 }
 
 fn fail(message: impl std::fmt::Display) -> ExitCode {
-    eprintln!("rungs analyze: {message}");
+    crate::output::complain(&format!("rungs analyze: {message}"));
     ExitCode::from(2)
 }
 
@@ -228,7 +228,7 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
         Format::Json => match report.to_json() {
             Ok(json) => json + "\n",
             Err(e) => {
-                eprintln!("rungs analyze: {e}");
+                crate::output::complain(&format!("rungs analyze: {e}"));
                 return ExitCode::from(1);
             }
         },

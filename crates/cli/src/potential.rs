@@ -23,7 +23,7 @@ pub fn finish(result: Result<String, String>) -> ExitCode {
     match result {
         Ok(text) => crate::output::emit(&text).map_or_else(|code| code, |()| ExitCode::SUCCESS),
         Err(message) => {
-            eprintln!("rungs: {message}");
+            crate::output::complain(&format!("rungs: {message}"));
             ExitCode::from(2)
         }
     }
