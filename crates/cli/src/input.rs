@@ -103,6 +103,18 @@ pub fn apply_arguments(args: &ReadArgs, options: &mut IntakeOptions) -> Result<(
 /// command-line reading choices on top. Returns the session and the text encoding found.
 pub fn open_session(path: &Path, args: &ReadArgs) -> Result<(Session, &'static str), String> {
     let name = path.display().to_string();
+    // Nothing longer than the longest document core reads is loaded into memory.
+    let limit = rungs_core::session::MAX_REPORT_BYTES;
+    if let Ok(meta) = std::fs::metadata(path)
+        && meta.len() > limit as u64
+    {
+        return Err(format!(
+            "{name}: the file is {} MiB long, more than the {} MiB any table or document may \
+             have; it is not read",
+            meta.len() / 1_048_576,
+            limit / 1_048_576
+        ));
+    }
     let bytes = std::fs::read(path).map_err(|e| format!("{name}: cannot read the file: {e}"))?;
     let (text, encoding) = decode(&bytes);
     let file_name = path.file_name().map(|n| n.to_string_lossy().into_owned());

@@ -16,6 +16,7 @@ pub mod bands;
 pub mod closing;
 pub mod constants;
 pub mod data;
+mod document;
 pub mod dunham;
 pub mod error;
 pub mod examples;
