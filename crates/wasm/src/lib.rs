@@ -39,6 +39,13 @@ pub fn codata_year() -> u32 {
     rungs_core::constants::CODATA_YEAR
 }
 
+/// Longest session document the module reads, in bytes (the share link's inflating limit must
+/// agree with it).
+#[wasm_bindgen]
+pub fn session_max_bytes() -> usize {
+    rungs_core::session::MAX_DOCUMENT_BYTES
+}
+
 /// The built-in SYNTHETIC examples: `[{id, title, description, file_name}]`.
 #[wasm_bindgen]
 pub fn examples() -> Result<JsValue, JsError> {

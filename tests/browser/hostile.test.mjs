@@ -1,0 +1,92 @@
+// Hostile input through the page's real paths: share links that inflate past the session limit
+// or hold a session over a list limit, and a damaged session file. Each is refused with a plain
+// message in the status line, the demo is shown instead, and nothing breaks or leaves the page.
+
+import { test, before, after } from 'node:test';
+import assert from 'node:assert/strict';
+import { deflateRawSync } from 'node:zlib';
+import { launch, serve, openPage } from './harness.mjs';
+
+let browser;
+let served;
+
+before(async () => {
+  browser = await launch();
+  served = await serve();
+});
+
+after(async () => {
+  await browser?.close();
+  served?.server.close();
+});
+
+function clean(problems) {
+  assert.deepEqual(problems.console, [], 'no console errors');
+  assert.deepEqual(problems.pageErrors, [], 'no page errors');
+  assert.deepEqual(problems.foreign, [], 'no request outside the origin');
+  assert.deepEqual(problems.failed, [], 'no failed request');
+}
+
+const link = (bytes) => `${served.origin}/#session=${deflateRawSync(bytes).toString('base64url')}`;
+
+/** A SYNTHETIC session document (five levels) with `intake` as given. */
+function session(intake) {
+  return JSON.stringify({
+    schema: 'rungs-session', version: 1, written_by: 'test', codata_year: 2022,
+    input: { text: 'v,E\n0,495\n1,1465\n2,2415\n3,3345\n4,4255\n' }, intake,
+  });
+}
+
+/** Open `url`; wait for the page to settle on an analysis; return its status text. */
+async function statusAfter(page, url) {
+  await page.goto(url);
+  await page.waitForFunction(() => document.body.dataset.state === 'analysed', null, { timeout: 60000 });
+  return page.textContent('#status-text');
+}
+
+test('a share link inflating past the session limit is refused before it is unpacked', async () => {
+  const { page, problems, context } = await openPage(browser, served.origin);
+  // 64 MiB + 1 of blanks deflates to about 64 KB: the limit, not the link length, must stop it.
+  const limit = 64 * 1024 * 1024;
+  const text = await statusAfter(page, link(Buffer.alloc(limit + 1, 0x20)));
+  assert.match(text, /share link could not be read/);
+  assert.match(text, /more than 64 MiB/);
+  assert.equal(await page.inputValue('#examples'), 'qz2-levels', 'the demo is shown instead');
+  // The page's inflating limit is the limit core reads documents with.
+  const [pageLimit, coreLimit] = await page.evaluate(async () => [
+    (await import('./js/exports.js')).SHARE_MAX_BYTES,
+    (await import('./pkg/rungs_wasm.js')).session_max_bytes(),
+  ]);
+  assert.equal(pageLimit, limit);
+  assert.equal(coreLimit, limit);
+  clean(problems);
+  await context.close();
+});
+
+test('a share link whose session is over a list limit is refused in plain words', async () => {
+  const { page, problems, context } = await openPage(browser, served.origin);
+  const sigmas = Array.from({ length: 100001 }, (_, i) => ({ row: i + 2, sigma: 0.5 }));
+  const text = await statusAfter(page, link(Buffer.from(session({ sigmas }))));
+  assert.match(text, /share link could not be opened/);
+  assert.match(text, /"sigmas" under "intake"/);
+  assert.match(text, /100000 entries, the limit/);
+  clean(problems);
+  await context.close();
+});
+
+test('a damaged share link and a session file with a wrong value get plain messages', async () => {
+  const { page, problems, context } = await openPage(browser, served.origin);
+  let text = await statusAfter(page, `${served.origin}/#session=@@not-base64@@`);
+  assert.match(text, /share link could not be read: it is damaged/);
+
+  await page.evaluate(() => { document.body.dataset.state = 'busy'; });
+  await page.setInputFiles('#file-input', {
+    name: 'bad.json', mimeType: 'application/json', buffer: Buffer.from(session({ kind: 'foo' })),
+  });
+  await page.waitForFunction(() => /kind/.test(document.getElementById('status-text').textContent));
+  text = await page.textContent('#status-text');
+  assert.match(text, /"kind" under "intake" \(the kind of data\) is "foo": use levels, spacings or bands/);
+  assert.doesNotMatch(text, /unknown variant|`|line 1 column/);
+  clean(problems);
+  await context.close();
+});
