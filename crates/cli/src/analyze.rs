@@ -33,10 +33,10 @@ pub struct AnalyzeArgs {
     #[arg(long, value_enum, default_value = "text")]
     pub format: Format,
     /// Monte Carlo samples (0 disables Monte Carlo).
-    #[arg(long, value_name = "N")]
+    #[arg(allow_negative_numbers = true, long, value_name = "N")]
     pub mc: Option<u32>,
     /// Monte Carlo seed.
-    #[arg(long, value_name = "S")]
+    #[arg(allow_negative_numbers = true, long, value_name = "S")]
     pub seed: Option<u64>,
     /// Long-range exponent n of the near-dissociation (LeRoy–Bernstein) fit.
     #[arg(allow_hyphen_values = true, long, value_name = "N")]
@@ -53,13 +53,13 @@ pub struct AnalyzeArgs {
     #[arg(long, value_name = "A,B")]
     pub masses: Option<String>,
     /// Use this polynomial order for G(v) instead of the recommended one.
-    #[arg(long, value_name = "K")]
+    #[arg(allow_negative_numbers = true, long, value_name = "K")]
     pub order: Option<u32>,
     /// Highest polynomial order tried for G(v) (default 6).
-    #[arg(long, value_name = "K")]
+    #[arg(allow_negative_numbers = true, long, value_name = "K")]
     pub max_order: Option<u32>,
     /// Number of top levels used by the near-dissociation fit.
-    #[arg(long, value_name = "N")]
+    #[arg(allow_negative_numbers = true, long, value_name = "N")]
     pub lb_top: Option<u32>,
     /// Bands: the two atoms of an isotopologue tag, e.g. `main=29.0,29.0` or `HCl=1H,35Cl`
     /// (nuclide labels, or masses in u with a decimal point); repeatable.
@@ -95,10 +95,10 @@ pub struct AnalyzeArgs {
     #[arg(allow_hyphen_values = true, long, value_name = "S")]
     pub head_sigma: Option<f64>,
     /// Bands: force the order of the upper state's G′(v).
-    #[arg(long, value_name = "K")]
+    #[arg(allow_negative_numbers = true, long, value_name = "K")]
     pub upper_order: Option<u32>,
     /// Bands: force the order of the lower state's G″(v).
-    #[arg(long, value_name = "K")]
+    #[arg(allow_negative_numbers = true, long, value_name = "K")]
     pub lower_order: Option<u32>,
     /// Also write every figure as SVG into this folder (created if missing).
     #[arg(long, value_name = "DIR")]

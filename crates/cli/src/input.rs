@@ -31,11 +31,19 @@ pub struct ReadArgs {
     #[arg(long, value_name = "D")]
     pub delimiter: Option<String>,
     /// Role and/or unit of one column, e.g. `2=energy:eV`, `3=sigma`, `4=:nm-air`; repeatable.
-    #[arg(long = "column", value_name = "N=ROLE[:UNIT]")]
+    #[arg(
+        allow_negative_numbers = true,
+        long = "column",
+        value_name = "N=ROLE[:UNIT]"
+    )]
     pub columns: Vec<String>,
     /// Exclude a row (its line number in the file), optionally with a reason: `12` or
     /// `12=perturbed`; repeatable.
-    #[arg(long = "exclude", value_name = "ROW[=REASON]")]
+    #[arg(
+        allow_negative_numbers = true,
+        long = "exclude",
+        value_name = "ROW[=REASON]"
+    )]
     pub exclude: Vec<String>,
 }
 

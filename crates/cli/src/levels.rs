@@ -46,7 +46,7 @@ pub struct LevelsArgs {
     #[arg(allow_hyphen_values = true, long = "mu")]
     pub mu: f64,
     /// Rotational quantum number J.
-    #[arg(long = "j", default_value_t = 0)]
+    #[arg(allow_negative_numbers = true, long = "j", default_value_t = 0)]
     pub j: u32,
     /// Unit of r in the file.
     #[arg(long = "r-unit", value_enum, default_value_t = RUnit::Angstrom)]
@@ -58,7 +58,7 @@ pub struct LevelsArgs {
     #[arg(allow_hyphen_values = true, long = "limit")]
     pub limit: Option<f64>,
     /// Long-range power n of the outer tail (with --limit; default: exponential approach).
-    #[arg(long = "tail-n", requires = "limit")]
+    #[arg(allow_negative_numbers = true, long = "tail-n", requires = "limit")]
     pub tail_n: Option<u32>,
     /// Highest energy of interest, cm⁻¹ above the minimum (needed when the curve has no limit).
     #[arg(allow_hyphen_values = true, long = "energy-max")]
