@@ -32,7 +32,7 @@ pub struct ReadArgs {
     pub delimiter: Option<String>,
     /// Role and/or unit of one column, e.g. `2=energy:eV`, `3=sigma`, `4=:nm-air`; repeatable.
     #[arg(
-        allow_negative_numbers = true,
+        allow_hyphen_values = true,
         long = "column",
         value_name = "N=ROLE[:UNIT]"
     )]
@@ -40,7 +40,7 @@ pub struct ReadArgs {
     /// Exclude a row (its line number in the file), optionally with a reason: `12` or
     /// `12=perturbed`; repeatable.
     #[arg(
-        allow_negative_numbers = true,
+        allow_hyphen_values = true,
         long = "exclude",
         value_name = "ROW[=REASON]"
     )]
