@@ -90,3 +90,66 @@ test('a damaged share link and a session file with a wrong value get plain messa
   clean(problems);
   await context.close();
 });
+
+test('script payloads in names, headers, cells and reasons never run or become elements', async () => {
+  const { page, problems, context } = await openPage(browser, served.origin);
+  let dialogs = 0;
+  page.on('dialog', (d) => { dialogs += 1; d.dismiss().catch(() => {}); });
+  await page.goto(`${served.origin}/`);
+  await page.waitForFunction(() => document.body.dataset.state === 'analysed', null, { timeout: 60000 });
+  const scriptsBefore = await page.evaluate(() => document.querySelectorAll('script').length);
+  const img = (n) => `<img src=x onerror="window.__pwned=${n}">`;
+  const table = `v,E,${img(1)}\n0,495,<script>window.__pwned=2</script>\n1,1465,${img(3)}\n2,2415,=1+2\n3,3345,x\n4,4255,x\n`;
+  const settle = async (act) => {
+    await page.evaluate(() => { document.body.dataset.state = 'busy'; });
+    await act();
+    await page.waitForFunction(() => ['analysed', 'failed'].includes(document.body.dataset.state), null, { timeout: 60000 });
+  };
+  const untouched = async (path) => {
+    const seen = await page.evaluate(() => ({
+      pwned: window.__pwned ?? null,
+      handlers: document.querySelectorAll('[onerror], [onload]').length,
+      images: document.querySelectorAll('img[src="x"]').length,
+      scripts: document.querySelectorAll('script').length,
+    }));
+    assert.deepEqual(seen, { pwned: null, handlers: 0, images: 0, scripts: scriptsBefore }, path);
+    assert.equal(dialogs, 0, `${path}: a dialog opened`);
+  };
+
+  // File chooser, with a payload in the file name too.
+  await settle(() => page.setInputFiles('#file-input', { name: `${img(4)}.csv`, mimeType: 'text/csv', buffer: Buffer.from(table) }));
+  assert.match(await page.textContent('#reading'), /onerror/, 'the name is shown as text');
+  await untouched('file chooser');
+
+  // Drop.
+  const dt = await page.evaluateHandle(([t, name]) => {
+    const d = new DataTransfer();
+    d.items.add(new File([t], name, { type: 'text/csv' }));
+    return d;
+  }, [table, `${img(5)}.csv`]);
+  await settle(() => page.dispatchEvent('body', 'drop', { dataTransfer: dt }));
+  await untouched('drop');
+
+  // The paste dialog.
+  await settle(async () => {
+    await page.click('#paste-open');
+    await page.fill('#paste-text', table);
+    await page.click('#paste-read');
+  });
+  await untouched('paste');
+
+  // A session document with payloads in the file name and an exclusion reason, then the
+  // printable report built from it.
+  const doc = JSON.stringify({
+    schema: 'rungs-session', version: 1, written_by: img(6), codata_year: 2022,
+    input: { name: `${img(7)}.csv`, text: table },
+    intake: { exclusions: [{ row: 6, reason: `${img(8)}<script>window.__pwned=9</script>` }] },
+  });
+  await settle(() => page.setInputFiles('#file-input', { name: 'payload.json', mimeType: 'application/json', buffer: Buffer.from(doc) }));
+  await untouched('session file');
+  await page.evaluate(() => globalThis.rungsBuildReport());
+  await page.evaluate(() => window.dispatchEvent(new Event('afterprint')));
+  await untouched('printable report');
+  clean(problems);
+  await context.close();
+});
