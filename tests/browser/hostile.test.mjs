@@ -5,7 +5,9 @@
 import { test, before, after } from 'node:test';
 import assert from 'node:assert/strict';
 import { deflateRawSync } from 'node:zlib';
-import { launch, serve, openPage } from './harness.mjs';
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { launch, serve, openPage, ROOT } from './harness.mjs';
 
 let browser;
 let served;
@@ -150,6 +152,68 @@ test('script payloads in names, headers, cells and reasons never run or become e
   await page.evaluate(() => globalThis.rungsBuildReport());
   await page.evaluate(() => window.dispatchEvent(new Event('afterprint')));
   await untouched('printable report');
+  clean(problems);
+  await context.close();
+});
+
+/** The bytes of a catalogue case's file (the same kinds crates/cli/tests/hostile_catalogue.rs makes). */
+function caseBytes(spec, baseTable) {
+  if (typeof spec.text === 'string') return Buffer.from(spec.text);
+  if (spec.repeat) return Buffer.from(spec.repeat.head + spec.repeat.line.repeat(spec.repeat.times));
+  if (spec.hex) return Buffer.from(spec.hex, 'hex');
+  if (spec.utf16le) return Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from(spec.utf16le, 'utf16le')]);
+  const s = spec.session;
+  const doc = {
+    schema: 'rungs-session', version: 1, written_by: 'hostile catalogue', codata_year: 2022,
+    input: { name: 't.csv', text: baseTable }, intake: {}, settings: { mc_samples: 0 },
+  };
+  const place = (path) => {
+    const keys = path.split('.');
+    const last = keys.pop();
+    let target = doc;
+    for (const k of keys) target = (target[k] ??= {});
+    return [target, last];
+  };
+  if (s.remove) { const [t, k] = place(s.remove); delete t[k]; }
+  if (s.set) {
+    const [t, k] = place(s.set);
+    t[k] = s.list_of
+      ? JSON.parse(`[${Array.from({ length: s.count }, (_, i) => s.list_of.replaceAll('{i}', String(i))).join(',')}]`)
+      : s.value;
+  }
+  return Buffer.from(JSON.stringify(doc) + (spec.append ?? ''));
+}
+
+const INTERNALS = ['invalid type', 'unknown variant', 'missing field', 'expected u32', 'expected f64', 'at line 1 column', '`'];
+
+test('the catalogue cases that are a file alone, opened through the file chooser, meet their class', async () => {
+  const cat = JSON.parse(readFileSync(join(ROOT, 'tests/hostile/cli_cases.json'), 'utf8'));
+  const cases = cat.cases.filter((c) => ['check', 'analyze'].includes(c.args[0]) && c.args.length === 2 && c.args[1] === '{file}');
+  assert.ok(cases.length >= 50, `${cases.length} cases`);
+  const { page, problems, context } = await openPage(browser, served.origin);
+  await page.goto(`${served.origin}/`);
+  await page.waitForFunction(() => document.body.dataset.state === 'analysed', null, { timeout: 60000 });
+  const wrong = [];
+  for (const c of cases) {
+    await page.evaluate(() => {
+      document.body.dataset.state = 'busy';
+      document.getElementById('status').className = 'status';
+    });
+    await page.setInputFiles('#file-input', {
+      name: `case.${c.file.ext ?? 'csv'}`, mimeType: 'application/octet-stream', buffer: caseBytes(c.file, cat.base_table),
+    });
+    await page.waitForFunction(() => ['analysed', 'failed'].includes(document.body.dataset.state)
+      || document.getElementById('status').classList.contains('error'), null, { timeout: 60000 });
+    const [state, refused, text] = await page.evaluate(() => [document.body.dataset.state,
+      document.getElementById('status').classList.contains('error'), document.getElementById('status-text').textContent]);
+    // A table check says "usable" when it can be read and holds enough rows: the page then
+    // analyses it; an analysis the command line runs, the page runs too.
+    const ok = state === 'analysed' && !refused;
+    const plain = INTERNALS.every((w) => !text.includes(w));
+    const fine = { ok, refused: refused && plain, ok_or_refused: ok || (refused && plain) }[c.expect];
+    if (!fine) wrong.push(`${c.name} (${c.expect}): state ${state}, status "${text.slice(0, 200)}"`);
+  }
+  assert.deepEqual(wrong, [], `${wrong.length} of ${cases.length} cases`);
   clean(problems);
   await context.close();
 });
