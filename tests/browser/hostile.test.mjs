@@ -217,3 +217,45 @@ test('the catalogue cases that are a file alone, opened through the file chooser
   clean(problems);
   await context.close();
 });
+
+test('the share-link decoder, fed 400 random and damaged fragments, only ever returns text or a plain refusal', async () => {
+  const { page, problems, context } = await openPage(browser, served.origin);
+  await page.goto(`${served.origin}/`);
+  await page.waitForFunction(() => document.body.dataset.state === 'analysed', null, { timeout: 60000 });
+  // A seeded generator (xorshift32), so every run tries the same fragments.
+  let seed = 20261204;
+  const next = () => { seed ^= seed << 13; seed ^= seed >>> 17; seed ^= seed << 5; return (seed >>> 0) / 4294967296; };
+  const bytes = (n) => Buffer.from(Array.from({ length: n }, () => Math.floor(next() * 256)));
+  const alphabet = 'ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789-_=+/%@!~ ';
+  const valid = deflateRawSync(Buffer.from(session({ exclusions: [{ row: 2, reason: 'x' }] })));
+  const fragments = [];
+  for (let i = 0; i < 100; i += 1) fragments.push(Array.from({ length: Math.floor(next() * 200) }, () => alphabet[Math.floor(next() * alphabet.length)]).join(''));
+  for (let i = 0; i < 100; i += 1) fragments.push(bytes(Math.floor(next() * 300)).toString('base64url'));
+  for (let i = 0; i < 100; i += 1) fragments.push(valid.subarray(0, Math.floor(next() * valid.length)).toString('base64url'));
+  for (let i = 0; i < 100; i += 1) {
+    const b = Buffer.from(valid);
+    b[Math.floor(next() * b.length)] ^= 1 << Math.floor(next() * 8);
+    fragments.push(b.toString('base64url'));
+  }
+  const results = await page.evaluate(async (list) => {
+    const { sessionFromUrl } = await import('./js/exports.js');
+    const out = [];
+    for (const f of list) {
+      history.replaceState(null, '', `#session=${f}`);
+      try {
+        const text = await sessionFromUrl();
+        out.push(typeof text === 'string' ? 'text' : `returned ${typeof text}`);
+      } catch (err) {
+        out.push(err instanceof Error && /^it /.test(err.message) ? 'refused' : `threw ${err?.name}: ${err?.message}`);
+      }
+    }
+    history.replaceState(null, '', '#');
+    return out;
+  }, fragments);
+  assert.equal(results.length, 400);
+  const odd = results.filter((r) => r !== 'text' && r !== 'refused');
+  assert.deepEqual(odd, [], 'only text or a plain refusal');
+  assert.ok(results.includes('refused') && results.includes('text'), 'both outcomes occur');
+  clean(problems);
+  await context.close();
+});
