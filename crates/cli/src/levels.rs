@@ -73,6 +73,18 @@ pub struct LevelsArgs {
 
 /// Run the command; `Err` carries a message for exit code 2.
 pub fn run(args: &LevelsArgs) -> Result<String, String> {
+    // A file longer than any table may be is not loaded into memory.
+    let limit = rungs_core::intake::MAX_TABLE_BYTES;
+    if let Ok(meta) = std::fs::metadata(&args.file)
+        && meta.len() > limit as u64
+    {
+        return Err(format!(
+            "{}: the file is {} MiB long, more than the {} MiB a table may have; it is not read",
+            args.file.display(),
+            meta.len() / 1_048_576,
+            limit / 1_048_576
+        ));
+    }
     let text =
         std::fs::read_to_string(&args.file).map_err(|e| format!("{}: {e}", args.file.display()))?;
     let r_unit = match args.r_unit {

@@ -755,7 +755,7 @@ impl DataSet {
 }
 
 /// Refuses a table over [`MAX_TABLE_BYTES`] or [`MAX_TABLE_LINES`] before anything of it is kept.
-fn check_table_size(text: &str) -> Result<()> {
+pub(crate) fn check_table_size(text: &str) -> Result<()> {
     if text.len() > MAX_TABLE_BYTES {
         return Err(Error::Input {
             message: format!(
