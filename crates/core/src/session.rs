@@ -57,15 +57,7 @@ pub const MAX_DOCUMENT_BYTES: usize = 64 * 1024 * 1024;
 /// before parsing; everything but the session is skipped without being kept.
 pub const MAX_REPORT_BYTES: usize = 256 * 1024 * 1024;
 
-/// Most entries in the list of excluded rows, and in the list of σ edits: 100 000, half the
-/// lines a table may have ([`crate::intake::MAX_TABLE_LINES`]); a person excluding rows one by
-/// one never comes near it.
-pub const MAX_ROW_CHOICES: usize = 100_000;
-
-/// Most entries in the list of column choices, of isotopologue atoms and of predictions:
-/// 10 000 (a saved reading lists every column of the table; tables with thousands of columns
-/// are read).
-pub const MAX_NAMED_ENTRIES: usize = 10_000;
+pub use crate::reading::{MAX_NAMED_ENTRIES, MAX_ROW_CHOICES};
 
 /// Longest reason, file name, isotopologue tag or atom label in a document, in characters.
 pub const MAX_TEXT_CHARS: usize = 10_000;
@@ -189,7 +181,7 @@ impl Session {
             // First pass: only the type of document, everything else skipped unkept.
             let probe: Probe = serde_json::from_str(head).map_err(|e| {
                 let full =
-                    crate::document::read::<serde::de::IgnoredAny>(head, "the JSON file", None);
+                    crate::reading::read::<serde::de::IgnoredAny>(head, "the JSON file", None);
                 full.err().unwrap_or_else(|| Error::Document {
                     message: format!(
                         "the JSON file is neither a {SESSION_SCHEMA} document nor an analysis \
@@ -207,7 +199,7 @@ impl Session {
                     inner.version,
                     "the session in the analysis",
                 )?;
-                let wrapped: Wrapped = crate::document::read(head, "the analysis file", None)?;
+                let wrapped: Wrapped = crate::reading::read(head, "the analysis file", None)?;
                 wrapped.session.check_limits()?;
                 return Ok(wrapped.session);
             }
@@ -243,14 +235,14 @@ impl Session {
                      and \"version\" a whole number"
                 ),
             },
-            _ => crate::document::read::<serde::de::IgnoredAny>(text, "the session document", None)
+            _ => crate::reading::read::<serde::de::IgnoredAny>(text, "the session document", None)
                 .err()
                 .unwrap_or_else(|| Error::Document {
                     message: "the session document cannot be read".into(),
                 }),
         })?;
         check_kind(head.schema.as_deref(), head.version, "the session document")?;
-        let session: Session = crate::document::read(text, "the session document", None)?;
+        let session: Session = crate::reading::read(text, "the session document", None)?;
         session.check_limits()?;
         Ok(session)
     }
@@ -314,7 +306,7 @@ pub fn settings_from_json(text: &str) -> Result<AnalysisSettings> {
     if text.len() > MAX_DOCUMENT_BYTES {
         return Err(too_long("the settings", text.len(), MAX_DOCUMENT_BYTES));
     }
-    crate::document::read(text, "the settings", Some("settings"))
+    crate::reading::read(text, "the settings", Some("settings"))
 }
 
 /// The refusal of a text longer than its limit.

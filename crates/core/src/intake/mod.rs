@@ -307,19 +307,19 @@ pub struct IntakeOptions {
     /// Per-column roles and units.
     #[serde(
         skip_serializing_if = "Vec::is_empty",
-        deserialize_with = "crate::document::at_most_names"
+        deserialize_with = "crate::reading::at_most_names"
     )]
     pub columns: Vec<ColumnOverride>,
     /// Rows excluded by the user.
     #[serde(
         skip_serializing_if = "Vec::is_empty",
-        deserialize_with = "crate::document::at_most_row_choices"
+        deserialize_with = "crate::reading::at_most_row_choices"
     )]
     pub exclusions: Vec<UserExclusion>,
     /// Uncertainties set by the user, replacing what the table says.
     #[serde(
         skip_serializing_if = "Vec::is_empty",
-        deserialize_with = "crate::document::at_most_row_choices"
+        deserialize_with = "crate::reading::at_most_row_choices"
     )]
     pub sigmas: Vec<SigmaEdit>,
 }

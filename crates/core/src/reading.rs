@@ -3,8 +3,9 @@
 //!
 //! Two jobs, shared by every reader of a document in core:
 //! - [`at_most_row_choices`] and [`at_most_names`] read a list field and stop with an error as
-//!   soon as the list is longer than its limit (the limits are stated in [`crate::session`]), so
-//!   a document cannot make the reader allocate more than the limit's worth of entries;
+//!   soon as the list is longer than its limit ([`MAX_ROW_CHOICES`], [`MAX_NAMED_ENTRIES`],
+//!   stated with the other limits in the session module), so a document cannot make the reader
+//!   allocate more than the limit's worth of entries;
 //! - [`read`] parses a document and, when that fails, turns the parser's report ("invalid type:
 //!   floating point `1e+300`, expected u32 at line 1 column 1690") into a sentence that names
 //!   the document's own key and its enclosing key, says what the key is for, what the document
@@ -17,7 +18,16 @@ use serde::Deserialize;
 use serde::de::{DeserializeOwned, Deserializer, Error as _, SeqAccess, Visitor};
 
 use crate::error::{Error, Result};
-use crate::session::{MAX_NAMED_ENTRIES, MAX_ROW_CHOICES};
+
+/// Most entries in the list of excluded rows, and in the list of σ edits: 100 000, half the
+/// lines a table may have (`intake::MAX_TABLE_LINES`); a person excluding rows one by one never
+/// comes near it.
+pub const MAX_ROW_CHOICES: usize = 100_000;
+
+/// Most entries in the list of column choices, of isotopologue atoms and of predictions:
+/// 10 000 (a saved reading lists every column of the table; tables with thousands of columns
+/// are read).
+pub const MAX_NAMED_ENTRIES: usize = 10_000;
 
 /// Reads a list of at most `limit` entries; a longer one fails at entry `limit + 1`.
 fn bounded<'de, D, T>(d: D, limit: usize) -> std::result::Result<Vec<T>, D::Error>
