@@ -45,11 +45,21 @@ async function boot() {
     bar.value = done;
   };
   const booted = rpc.boot(wasmSource);
+  // A share link that cannot be read or opened leaves its reason in the status line, and the
+  // demo is shown instead.
+  let shareProblem = null;
   const shared = await sessionFromUrl().catch((err) => {
-    status(`The share link could not be read: ${err.message}`, 'error');
+    shareProblem = `The share link could not be read: ${err.message}`;
+    status(shareProblem, 'error');
     return null;
   });
-  const firstReading = booted.then(() => (shared ? rpc.call('load_session', shared) : rpc.call('load_example', 'qz2-levels')));
+  const demo = () => rpc.call('load_example', 'qz2-levels');
+  const firstReading = booted.then(() => (shared
+    ? rpc.call('load_session', shared).catch((err) => {
+      shareProblem = `The share link could not be opened: ${err.message}`;
+      return demo();
+    })
+    : demo()));
   let firstAnalysis = firstReading.then((r) => (r.usable_error ? null : rpc.call('analyze'))).catch(() => null);
 
   await init(wasmSource ? { module_or_path: wasmSource } : undefined);
@@ -221,8 +231,10 @@ async function boot() {
     { url: location.href.split('#')[0], printed: new Date().toISOString(), name: data.reading?.name, noPrint: true });
 
   // --- show the shared session, or the demo, read and analysed during start-up ------------
-  $('examples').value = shared ? '' : 'qz2-levels';
-  await afterReading(await run(() => firstReading));
+  const reading = await run(() => firstReading);
+  $('examples').value = shared && !shareProblem ? '' : 'qz2-levels';
+  await afterReading(reading);
+  if (shareProblem) status(shareProblem, 'error');
 }
 
 boot().catch((err) => {

@@ -24,6 +24,37 @@ export const LINK_WARN_CHARS = 8000;
 /** Chromium's limit on URL length. */
 export const LINK_MAX_CHARS = 2 * 1024 * 1024;
 
+/**
+ * Most bytes a share link may inflate to: the longest session document core reads
+ * (rungs_core::session::MAX_DOCUMENT_BYTES, 64 MiB; a browser test checks that they agree).
+ * Inflating stops as soon as the count passes it, so a small link cannot fill the memory.
+ */
+export const SHARE_MAX_BYTES = 64 * 1024 * 1024;
+
+/** `bytes` inflated, refused once the output passes `limit` bytes (the rest is not inflated). */
+async function inflateAtMost(bytes, limit) {
+  const reader = new Blob([bytes]).stream().pipeThrough(new DecompressionStream('deflate-raw')).getReader();
+  const parts = [];
+  let total = 0;
+  for (;;) {
+    const { done, value } = await reader.read();
+    if (done) break;
+    total += value.length;
+    if (total > limit) {
+      await reader.cancel();
+      throw new Error(`it holds more than ${limit / 1048576} MiB of session data, more than a session may have; it was not opened`);
+    }
+    parts.push(value);
+  }
+  const out = new Uint8Array(total);
+  let at = 0;
+  for (const p of parts) {
+    out.set(p, at);
+    at += p.length;
+  }
+  return out;
+}
+
 async function pipeBytes(bytes, stream) {
   const out = new Blob([bytes]).stream().pipeThrough(stream);
   return new Uint8Array(await new Response(out).arrayBuffer());
@@ -51,8 +82,18 @@ export async function shareLink(sessionJson) {
 /** The session JSON packed in this page's URL, if any. */
 export async function sessionFromUrl() {
   if (!location.hash.startsWith(HASH_KEY)) return null;
-  const bytes = fromBase64Url(location.hash.slice(HASH_KEY.length));
-  const json = await pipeBytes(bytes, new DecompressionStream('deflate-raw'));
+  if (location.hash.length > LINK_MAX_CHARS) {
+    throw new Error(`it is longer than the ${LINK_MAX_CHARS.toLocaleString()} characters a link may have`);
+  }
+  let bytes;
+  try {
+    bytes = fromBase64Url(location.hash.slice(HASH_KEY.length));
+  } catch {
+    throw new Error('it is damaged (not the text a share link holds); it may have been cut or changed');
+  }
+  const json = await inflateAtMost(bytes, SHARE_MAX_BYTES).catch((err) => {
+    throw err.message.startsWith('it holds') ? err : new Error('it is damaged (its session cannot be unpacked); it may have been cut or changed');
+  });
   return new TextDecoder().decode(json);
 }
 

@@ -33,10 +33,10 @@ pub struct AnalyzeArgs {
     #[arg(long, value_enum, default_value = "text")]
     pub format: Format,
     /// Monte Carlo samples (0 disables Monte Carlo).
-    #[arg(long, value_name = "N")]
+    #[arg(allow_negative_numbers = true, long, value_name = "N")]
     pub mc: Option<u32>,
     /// Monte Carlo seed.
-    #[arg(long, value_name = "S")]
+    #[arg(allow_negative_numbers = true, long, value_name = "S")]
     pub seed: Option<u64>,
     /// Long-range exponent n of the near-dissociation (LeRoy–Bernstein) fit.
     #[arg(allow_hyphen_values = true, long, value_name = "N")]
@@ -53,13 +53,13 @@ pub struct AnalyzeArgs {
     #[arg(long, value_name = "A,B")]
     pub masses: Option<String>,
     /// Use this polynomial order for G(v) instead of the recommended one.
-    #[arg(long, value_name = "K")]
+    #[arg(allow_negative_numbers = true, long, value_name = "K")]
     pub order: Option<u32>,
     /// Highest polynomial order tried for G(v) (default 6).
-    #[arg(long, value_name = "K")]
+    #[arg(allow_negative_numbers = true, long, value_name = "K")]
     pub max_order: Option<u32>,
     /// Number of top levels used by the near-dissociation fit.
-    #[arg(long, value_name = "N")]
+    #[arg(allow_negative_numbers = true, long, value_name = "N")]
     pub lb_top: Option<u32>,
     /// The dissociation asymptote on the data's energy scale, when known (e.g. from atomic
     /// data): adds a near-dissociation fit with the asymptote held there (cm⁻¹).
@@ -102,10 +102,10 @@ pub struct AnalyzeArgs {
     #[arg(allow_hyphen_values = true, long, value_name = "S")]
     pub head_sigma: Option<f64>,
     /// Bands: force the order of the upper state's G′(v).
-    #[arg(long, value_name = "K")]
+    #[arg(allow_negative_numbers = true, long, value_name = "K")]
     pub upper_order: Option<u32>,
     /// Bands: force the order of the lower state's G″(v).
-    #[arg(long, value_name = "K")]
+    #[arg(allow_negative_numbers = true, long, value_name = "K")]
     pub lower_order: Option<u32>,
     /// Also write every figure as SVG into this folder (created if missing).
     #[arg(long, value_name = "DIR")]
@@ -135,7 +135,7 @@ fn rotation(text: &str, flag: &str) -> Result<StateRotation, String> {
 }
 
 fn fail(message: impl std::fmt::Display) -> ExitCode {
-    eprintln!("rungs analyze: {message}");
+    crate::output::complain(&format!("rungs analyze: {message}"));
     ExitCode::from(2)
 }
 
@@ -241,7 +241,7 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
         Format::Json => match report.to_json() {
             Ok(json) => json + "\n",
             Err(e) => {
-                eprintln!("rungs analyze: {e}");
+                crate::output::complain(&format!("rungs analyze: {e}"));
                 return ExitCode::from(1);
             }
         },

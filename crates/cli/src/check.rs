@@ -36,7 +36,7 @@ pub struct CheckArgs {
 }
 
 fn bad_argument(message: String) -> ExitCode {
-    eprintln!("rungs check: {message}");
+    crate::output::complain(&format!("rungs check: {message}"));
     ExitCode::from(2)
 }
 
@@ -198,7 +198,7 @@ pub fn run(args: &CheckArgs) -> ExitCode {
             if let Err(code) = emit(&out) {
                 return code;
             }
-            eprintln!("rungs check: {name}: not usable: {e}");
+            crate::output::complain(&format!("rungs check: {name}: not usable: {e}"));
             ExitCode::from(2)
         }
     }

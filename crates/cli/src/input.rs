@@ -31,11 +31,19 @@ pub struct ReadArgs {
     #[arg(long, value_name = "D")]
     pub delimiter: Option<String>,
     /// Role and/or unit of one column, e.g. `2=energy:eV`, `3=sigma`, `4=:nm-air`; repeatable.
-    #[arg(long = "column", value_name = "N=ROLE[:UNIT]")]
+    #[arg(
+        allow_hyphen_values = true,
+        long = "column",
+        value_name = "N=ROLE[:UNIT]"
+    )]
     pub columns: Vec<String>,
     /// Exclude a row (its line number in the file), optionally with a reason: `12` or
     /// `12=perturbed`; repeatable.
-    #[arg(long = "exclude", value_name = "ROW[=REASON]")]
+    #[arg(
+        allow_hyphen_values = true,
+        long = "exclude",
+        value_name = "ROW[=REASON]"
+    )]
     pub exclude: Vec<String>,
 }
 
@@ -103,6 +111,18 @@ pub fn apply_arguments(args: &ReadArgs, options: &mut IntakeOptions) -> Result<(
 /// command-line reading choices on top. Returns the session and the text encoding found.
 pub fn open_session(path: &Path, args: &ReadArgs) -> Result<(Session, &'static str), String> {
     let name = path.display().to_string();
+    // Nothing longer than the longest document core reads is loaded into memory.
+    let limit = rungs_core::session::MAX_REPORT_BYTES;
+    if let Ok(meta) = std::fs::metadata(path)
+        && meta.len() > limit as u64
+    {
+        return Err(format!(
+            "{name}: the file is {} MiB long, more than the {} MiB any table or document may \
+             have; it is not read",
+            meta.len() / 1_048_576,
+            limit / 1_048_576
+        ));
+    }
     let bytes = std::fs::read(path).map_err(|e| format!("{name}: cannot read the file: {e}"))?;
     let (text, encoding) = decode(&bytes);
     let file_name = path.file_name().map(|n| n.to_string_lossy().into_owned());

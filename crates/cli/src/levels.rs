@@ -46,7 +46,7 @@ pub struct LevelsArgs {
     #[arg(allow_hyphen_values = true, long = "mu")]
     pub mu: f64,
     /// Rotational quantum number J.
-    #[arg(long = "j", default_value_t = 0)]
+    #[arg(allow_negative_numbers = true, long = "j", default_value_t = 0)]
     pub j: u32,
     /// Unit of r in the file.
     #[arg(long = "r-unit", value_enum, default_value_t = RUnit::Angstrom)]
@@ -58,7 +58,7 @@ pub struct LevelsArgs {
     #[arg(allow_hyphen_values = true, long = "limit")]
     pub limit: Option<f64>,
     /// Long-range power n of the outer tail (with --limit; default: exponential approach).
-    #[arg(long = "tail-n", requires = "limit")]
+    #[arg(allow_negative_numbers = true, long = "tail-n", requires = "limit")]
     pub tail_n: Option<u32>,
     /// Highest energy of interest, cm⁻¹ above the minimum (needed when the curve has no limit).
     #[arg(allow_hyphen_values = true, long = "energy-max")]
@@ -73,6 +73,18 @@ pub struct LevelsArgs {
 
 /// Run the command; `Err` carries a message for exit code 2.
 pub fn run(args: &LevelsArgs) -> Result<String, String> {
+    // A file longer than any table may be is not loaded into memory.
+    let limit = rungs_core::intake::MAX_TABLE_BYTES;
+    if let Ok(meta) = std::fs::metadata(&args.file)
+        && meta.len() > limit as u64
+    {
+        return Err(format!(
+            "{}: the file is {} MiB long, more than the {} MiB a table may have; it is not read",
+            args.file.display(),
+            meta.len() / 1_048_576,
+            limit / 1_048_576
+        ));
+    }
     let text =
         std::fs::read_to_string(&args.file).map_err(|e| format!("{}: {e}", args.file.display()))?;
     let r_unit = match args.r_unit {

@@ -3,7 +3,8 @@
 //! `print!` panics when the reader has gone away (`rungs check FILE | head`). Every command
 //! builds its text and hands it to [`emit`], which treats a closed pipe as the reader's choice
 //! to stop: the command ends quietly with exit code 0. Other write errors are reported on
-//! standard error with exit code 1.
+//! standard error with exit code 1. Messages for standard error go through [`complain`]
+//! (`eprintln!` panics when standard error is a closed pipe, too).
 
 use std::io::Write;
 use std::process::ExitCode;
@@ -19,8 +20,15 @@ pub fn emit(text: &str) -> Result<(), ExitCode> {
         Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Err(ExitCode::SUCCESS),
         Err(e) => {
             // Standard error may be closed as well: nothing more can be said then.
-            let _ = writeln!(std::io::stderr(), "rungs: cannot write the output: {e}");
+            complain(&format!("rungs: cannot write the output: {e}"));
             Err(ExitCode::from(1))
         }
     }
+}
+
+/// Writes `line` and a newline to standard error. When standard error cannot be written (a
+/// closed pipe), nothing more can be said: the command goes on to its exit code.
+pub fn complain(line: &str) {
+    let mut stderr = std::io::stderr().lock();
+    let _ = writeln!(stderr, "{line}");
 }

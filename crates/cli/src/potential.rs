@@ -23,7 +23,7 @@ pub fn finish(result: Result<String, String>) -> ExitCode {
     match result {
         Ok(text) => crate::output::emit(&text).map_or_else(|code| code, |()| ExitCode::SUCCESS),
         Err(message) => {
-            eprintln!("rungs: {message}");
+            crate::output::complain(&format!("rungs: {message}"));
             ExitCode::from(2)
         }
     }
@@ -60,13 +60,13 @@ pub struct PotentialArgs {
     #[arg(allow_hyphen_values = true, long = "mu")]
     pub mu: f64,
     /// Highest v for the turning points (default: the last v where G′ is still ≥ 10 % of ωe).
-    #[arg(long = "v-max", value_parser = clap::value_parser!(u32).range(0..=i64::from(MAX_V_MAX)))]
+    #[arg(allow_negative_numbers = true, long = "v-max", value_parser = clap::value_parser!(u32).range(0..=i64::from(MAX_V_MAX)))]
     pub v_max: Option<u32>,
     /// Dissociation limit above the minimum, cm⁻¹, for the outer wall of the RKR curve.
     #[arg(allow_hyphen_values = true, long = "limit")]
     pub limit: Option<f64>,
     /// Long-range power n of the outer tail (with --limit; default: exponential approach).
-    #[arg(long = "tail-n", requires = "limit")]
+    #[arg(allow_negative_numbers = true, long = "tail-n", requires = "limit")]
     pub tail_n: Option<u32>,
     /// C_n in cm⁻¹ Åⁿ (with --tail-n).
     #[arg(allow_hyphen_values = true, long = "cn", requires = "tail_n")]

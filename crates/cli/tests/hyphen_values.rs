@@ -57,3 +57,49 @@ fn a_list_beginning_with_a_minus_is_an_option_value() {
     assert!(!err.contains("unexpected argument"), "{err}");
     assert!(!err.contains("panicked"), "{err}");
 }
+
+/// Negative numbers given to whole-number options (and to --exclude and --column) reach the
+/// option's own check ("invalid value" from the argument reader, or the command's message)
+/// instead of being taken for a flag ("unexpected argument").
+#[test]
+fn a_negative_number_reaches_the_options_own_check() {
+    let path = std::env::temp_dir().join(format!("rungs-hyphen-neg-{}.csv", std::process::id()));
+    std::fs::write(&path, "v,E\n0,495\n1,1465\n2,2415\n3,3345\n4,4255\n").unwrap();
+    let file = path.to_str().unwrap();
+    let constants = [
+        "potential",
+        "--we",
+        "1000",
+        "--wexe",
+        "10",
+        "--be",
+        "1",
+        "--alphae",
+        "0.01",
+        "--mu",
+        "10",
+    ];
+    let cases: Vec<Vec<&str>> = vec![
+        vec!["analyze", file, "--mc", "-1"],
+        vec!["analyze", file, "--seed", "-1"],
+        vec!["analyze", file, "--order", "-2"],
+        vec!["analyze", file, "--max-order", "-2"],
+        vec!["analyze", file, "--lb-top", "-3"],
+        vec!["analyze", file, "--upper-order", "-1"],
+        vec!["check", file, "--exclude", "-1"],
+        vec!["check", file, "--column", "-1"],
+        vec!["levels", file, "--mu", "10", "--j", "-1"],
+        vec![
+            "levels", file, "--mu", "10", "--limit", "1", "--tail-n", "-6",
+        ],
+        [&constants[..], &["--v-max", "-1"]].concat(),
+        [&constants[..], &["--limit", "1", "--tail-n", "-6"]].concat(),
+    ];
+    for args in cases {
+        let (code, _, err) = rungs(&args);
+        assert!(!err.contains("unexpected argument"), "{args:?}: {err}");
+        assert!(!err.contains("panicked"), "{args:?}: {err}");
+        assert_eq!(code, 2, "{args:?}: {err}");
+    }
+    std::fs::remove_file(&path).ok();
+}

@@ -102,3 +102,28 @@ fn a_harmonic_well_with_a_huge_mass_stops_at_a_limit() {
         "{out}"
     );
 }
+
+/// A curve file longer than any table may be (16 MiB) is refused before it is read, and a curve
+/// of more lines than a table may have (200 000) before its points are kept; both name the
+/// limit, exit 2.
+#[test]
+fn an_over_long_curve_file_is_refused_by_its_size() {
+    let long = std::env::temp_dir().join(format!("rungs-curve-long-{}.csv", std::process::id()));
+    let mut text = String::from("r,V\n");
+    let line = format!("2.0,{}\n", "1".repeat(1000));
+    while text.len() <= 16 * 1024 * 1024 {
+        text.push_str(&line);
+    }
+    std::fs::write(&long, &text).unwrap();
+    let (code, _, err) = rungs_bounded(&["levels", long.to_str().unwrap(), "--mu", "10"]);
+    std::fs::remove_file(&long).ok();
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("16 MiB") && err.contains("not read"), "{err}");
+
+    let many = std::env::temp_dir().join(format!("rungs-curve-many-{}.csv", std::process::id()));
+    std::fs::write(&many, "r,V\n".to_string() + &"2,0\n".repeat(200_001)).unwrap();
+    let (code, _, err) = rungs_bounded(&["levels", many.to_str().unwrap(), "--mu", "10"]);
+    std::fs::remove_file(&many).ok();
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("200000") && err.contains("limit"), "{err}");
+}

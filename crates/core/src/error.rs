@@ -46,7 +46,7 @@ pub enum Error {
         message: String,
     },
     /// A saved document (session) cannot be read.
-    #[error("document: {message}")]
+    #[error("{message}")]
     Document {
         /// What went wrong.
         message: String,

@@ -106,7 +106,7 @@ impl Example {
 /// Reads settings the way session documents are read (straight from the text), so the module
 /// carries one settings reader rather than two.
 fn settings_from_json(json: &str) -> Option<AnalysisSettings> {
-    serde_json::from_str(json).ok()
+    crate::session::settings_from_json(json).ok()
 }
 
 #[cfg(test)]

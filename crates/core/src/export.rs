@@ -104,8 +104,8 @@ impl Sheet {
 
 /// A text cell as written: text a spreadsheet would run as a formula (it begins with `=`, `+`,
 /// `-`, `@`, a tab or a carriage return) gets a leading `'`, which spreadsheets take as "this is
-/// text" (SOURCE: OWASP, "CSV Injection", from memory). A cell that is a finite number (`-0.5`,
-/// `+3e2`) is left as it is, so numbers stay numbers.
+/// text" (common practice, no source: the spreadsheet formula-injection convention). A cell that
+/// is a finite number (`-0.5`, `+3e2`) is left as it is, so numbers stay numbers.
 fn text_cell(s: &str) -> String {
     let risky = s.starts_with(['=', '+', '-', '@', '\t', '\r']);
     let number = s.parse::<f64>().is_ok_and(f64::is_finite);
@@ -530,8 +530,7 @@ mod tests {
     use crate::pipeline::analyze_session;
 
     /// Text that a spreadsheet would run as a formula is written with a leading `'`; numbers,
-    /// negative ones included, are written as they are (SOURCE: OWASP, "CSV Injection", from
-    /// memory).
+    /// negative ones included, are written as they are (common practice, no source).
     #[test]
     fn formula_like_text_cells_are_neutralised() {
         let mut header = vec!["=HYPERLINK(\"x\")", "plain"];

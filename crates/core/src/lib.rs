@@ -32,6 +32,7 @@ pub mod montecarlo;
 pub mod morse;
 pub mod pipeline;
 pub mod potential;
+mod reading;
 pub mod recommend;
 pub mod report;
 pub mod session;
@@ -40,6 +41,7 @@ mod sorting;
 pub mod spacings;
 pub mod units;
 pub mod value;
+pub mod words;
 
 pub use analysis::{analyze_levels, analyze_spacings};
 pub use bands::{BandReport, analyze_bands, render_band_text};

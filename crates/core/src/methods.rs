@@ -24,70 +24,7 @@ const COOLEY: &str = "J. W. Cooley, Math. Comput. 15, 363 (1961)"; // from memor
 const AME: &str = "M. Wang et al., Chinese Phys. C 45, 030003 (2021) (AME 2020)"; // from memory
 const CODATA: &str = "CODATA 2022 recommended values of the fundamental physical constants (NIST)";
 
-/// Short names of the methods for people, by method id (the ids stay in the JSON document).
-const METHOD_NAMES: &[(&str, &str)] = &[
-    ("observed-sum", "observed sum"),
-    ("birge-sponer-linear", "linear Birge–Sponer"),
-    ("birge-sponer-curved", "curved Birge–Sponer"),
-    ("leroy-bernstein-n-free", "LeRoy–Bernstein (n free)"),
-    (
-        "leroy-bernstein-alt-levels",
-        "LeRoy–Bernstein (other top levels)",
-    ),
-    ("leroy-bernstein", "LeRoy–Bernstein"),
-    ("near-dissociation-expansion", "near-dissociation expansion"),
-];
-
-/// The short name of a method for people (`"linear Birge–Sponer"`); an unknown id as it is.
-pub fn method_name(id: &str) -> &str {
-    METHOD_NAMES
-        .iter()
-        .find(|(k, _)| *k == id)
-        .map_or(id, |(_, name)| name)
-}
-
-/// `text` with every method id written as its name, and setting names as plain words, for
-/// messages made by the analyses that a person reads.
-pub fn in_plain_words(text: &str) -> String {
-    let mut out = text.replace(
-        "(its sigma_scale)",
-        "(the factor is shown with each method)",
-    );
-    // How an iterative fit stopped, in words rather than the solver's names for it.
-    for (name, words) in [
-        ("MaxIterations", "the iteration limit was reached"),
-        ("NoProgress", "no step improved the fit"),
-        ("InvalidStart", "no usable starting point"),
-        ("ParametersConverged", "converged"),
-        ("ChiSquareConverged", "converged"),
-        ("GradientConverged", "converged"),
-        ("ExactFit", "exact fit"),
-    ] {
-        out = out.replace(name, words);
-    }
-    // Longest ids first (they are listed so), and only whole ids: "leroy-bernstein" inside
-    // "leroy-bernstein-n-free" has been replaced already.
-    for (id, name) in METHOD_NAMES {
-        let mut result = String::with_capacity(out.len());
-        let mut rest = out.as_str();
-        while let Some(i) = rest.find(id) {
-            let before = rest[..i].chars().next_back();
-            let after = rest[i + id.len()..].chars().next();
-            let part_of_word =
-                |c: Option<char>| c.is_some_and(|c| c.is_alphanumeric() || c == '-' || c == '_');
-            result.push_str(&rest[..i]);
-            if part_of_word(before) || part_of_word(after) {
-                result.push_str(id);
-            } else {
-                result.push_str(name);
-            }
-            rest = &rest[i + id.len()..];
-        }
-        result.push_str(rest);
-        out = result;
-    }
-    out
-}
+pub use crate::words::{in_plain_words, method_name};
 
 /// SHA-256 of `text`, as lower-case hex.
 pub fn sha256_hex(text: &str) -> String {

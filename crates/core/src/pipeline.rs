@@ -58,7 +58,7 @@ pub fn rows_summary(data: &DataSet) -> RowsSummary {
 }
 
 fn plain(text: &str) -> String {
-    crate::methods::in_plain_words(text)
+    crate::words::in_plain_words(text)
 }
 
 /// The analyses' messages that people read, with method ids written as names (the ids stay in

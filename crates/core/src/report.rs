@@ -653,7 +653,7 @@ pub fn render_text(r: &Report) -> String {
                     s,
                     "  D0   = {}{stat}{model} cm⁻¹   ({})",
                     pm_sig(d0, rec.sigma_stat_cm1, 6),
-                    crate::methods::method_name(m)
+                    crate::words::method_name(m)
                 );
                 if let (Some(lo), Some(hi)) = (rec.d0_low_cm1, rec.d0_high_cm1) {
                     let _ = writeln!(
@@ -668,6 +668,22 @@ pub fn render_text(r: &Report) -> String {
                         s,
                         "  De   = {} cm⁻¹",
                         value_sigma(de, rec.sigma_stat_cm1, 6).0
+                    );
+                }
+            }
+            (None, Some(_)) if !rec.d0_determined => {
+                let _ = writeln!(
+                    s,
+                    "  D0, De: not determined by these data (they start far above v = 0)"
+                );
+                if let (Some(b), Some(lo), Some(hi)) = (
+                    rec.above_top_cm1,
+                    rec.above_top_low_cm1,
+                    rec.above_top_high_cm1,
+                ) {
+                    let _ = writeln!(
+                        s,
+                        "  binding energy of the highest level = {b:.4} cm⁻¹, interval {lo:.4} … {hi:.4} cm⁻¹"
                     );
                 }
             }
@@ -980,7 +996,7 @@ pub fn render_text(r: &Report) -> String {
                     None => "—",
                 },
                 num(rec.sigma_model_cm1, 3),
-                crate::methods::method_name(m)
+                crate::words::method_name(m)
             );
             if let (Some(lo), Some(hi)) = (rec.d0_low_cm1, rec.d0_high_cm1) {
                 let _ = writeln!(
@@ -1005,14 +1021,15 @@ pub fn render_text(r: &Report) -> String {
             let admitted: Vec<&str> = rec
                 .spread_methods
                 .iter()
-                .map(|m| crate::methods::method_name(m))
+                .map(|m| crate::words::method_name(m))
                 .collect();
             let _ = writeln!(s, "  admitted estimates: {}", admitted.join(", "));
         }
         (Some(m), None) if !rec.d0_determined => {
             let _ = writeln!(
                 s,
-                "  D0, De: not determined by these data (see the reason)   [{m}]"
+                "  D0, De: not determined by these data (see the reason)   ({})",
+                crate::words::method_name(m)
             );
             if let (Some(b), Some(lo), Some(hi)) = (
                 rec.above_top_cm1,
@@ -1030,7 +1047,12 @@ pub fn render_text(r: &Report) -> String {
             if let (Some(v), Some(lo), Some(hi)) = (rec.v_d, rec.v_d_low, rec.v_d_high) {
                 let _ = writeln!(s, "  v_D = {v:.3} (interval {lo:.3} … {hi:.3})");
             }
-            let _ = writeln!(s, "  admitted estimates: {}", rec.spread_methods.join(", "));
+            let admitted: Vec<&str> = rec
+                .spread_methods
+                .iter()
+                .map(|m| crate::words::method_name(m))
+                .collect();
+            let _ = writeln!(s, "  admitted estimates: {}", admitted.join(", "));
         }
         _ => {
             let _ = writeln!(s, "  none");

@@ -16,6 +16,24 @@
 //! [`DataSet`] through the same intake path; with the column mapping stored explicitly (see
 //! [`Session::from_dataset`]) the reading does not depend on detection rules. Writing then
 //! reading a document gives back an equal value (floats round-trip exactly).
+//!
+//! ## Limits
+//!
+//! What a document can make the program allocate is bounded. Each limit is checked before the
+//! memory for it is taken, and a document over a limit is refused with a message naming it:
+//!
+//! | what | limit |
+//! |---|---|
+//! | a session document (file, share link, or settings text) | [`MAX_DOCUMENT_BYTES`] bytes of JSON (64 MiB), checked before parsing |
+//! | an exported analysis opened for its session | [`MAX_REPORT_BYTES`] bytes (256 MiB), checked before parsing; only its session is kept |
+//! | the stored table | [`crate::intake::MAX_TABLE_BYTES`] bytes and [`crate::intake::MAX_TABLE_LINES`] lines, checked before it is read (as for any table) |
+//! | excluded rows, σ edits | [`MAX_ROW_CHOICES`] entries each; reading stops at the first entry over it |
+//! | column choices, isotopologue atoms, predictions | [`MAX_NAMED_ENTRIES`] entries each, likewise |
+//! | a reason, file name, tag or atom label | [`MAX_TEXT_CHARS`] characters |
+//!
+//! Nesting is bounded by the JSON reader (128 levels). A document that cannot be read gets a
+//! message naming its key as the document writes it (`"mc_samples" under "settings"`), what the
+//! key is for and the values it allows.
 
 use serde::{Deserialize, Serialize};
 
@@ -28,6 +46,21 @@ use crate::settings::{AnalysisSettings, MassSpec};
 pub const SESSION_SCHEMA: &str = "rungs-session";
 /// Version of the session document this build writes and reads.
 pub const SESSION_VERSION: u32 = 1;
+
+/// Longest session document read, in bytes of JSON text: 64 MiB, four times the longest table
+/// it can hold ([`crate::intake::MAX_TABLE_BYTES`]), leaving room for the reading choices.
+/// Checked before the text is parsed.
+pub const MAX_DOCUMENT_BYTES: usize = 64 * 1024 * 1024;
+
+/// Longest exported analysis opened for the session it embeds, in bytes: 256 MiB (an analysis
+/// of the longest table lists every row, level and residual beside the session). Checked
+/// before parsing; everything but the session is skipped without being kept.
+pub const MAX_REPORT_BYTES: usize = 256 * 1024 * 1024;
+
+pub use crate::reading::{MAX_NAMED_ENTRIES, MAX_ROW_CHOICES};
+
+/// Longest reason, file name, isotopologue tag or atom label in a document, in characters.
+pub const MAX_TEXT_CHARS: usize = 10_000;
 
 /// The input table of a session.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -128,11 +161,14 @@ impl Session {
         if let Some(cn) = st.lb_cn_cm1_an {
             finite("lb_cn_cm1_an", cn)?;
         }
+        if let Some(d) = st.asymptote_cm1 {
+            finite("asymptote_cm1", d)?;
+        }
         if let Some(MassSpec::ReducedMass { mu_u }) = &self.settings.mass {
             finite("mass.mu_u", *mu_u)?;
         }
         serde_json::to_string_pretty(self).map_err(|e| Error::Document {
-            message: format!("cannot be written: {e}"),
+            message: format!("the session cannot be written: {e}"),
         })
     }
 
@@ -142,19 +178,33 @@ impl Session {
     pub fn open(name: Option<String>, text: &str) -> Result<Session> {
         let head = text.trim_start_matches('\u{feff}').trim_start();
         if head.starts_with('{') {
-            let value: serde_json::Value =
-                serde_json::from_str(head).map_err(|e| Error::Document {
+            if head.len() > MAX_REPORT_BYTES {
+                return Err(too_long("the JSON document", head.len(), MAX_REPORT_BYTES));
+            }
+            // First pass: only the type of document, everything else skipped unkept.
+            let probe: Probe = serde_json::from_str(head).map_err(|e| {
+                let full =
+                    crate::reading::read::<serde::de::IgnoredAny>(head, "the JSON file", None);
+                full.err().unwrap_or_else(|| Error::Document {
                     message: format!(
-                        "looks like JSON but is not valid (line {}, column {}): {e}",
-                        e.line(),
-                        e.column()
+                        "the JSON file is neither a {SESSION_SCHEMA} document nor an analysis \
+                         report with its session ({})",
+                        plain_probe_error(&e)
                     ),
-                })?;
-            if value.get("schema").is_some() {
+                })
+            })?;
+            if probe.schema.is_some() {
                 return Session::from_json(head);
             }
-            if let Some(session) = value.get("session").filter(|s| !s.is_null()) {
-                return Session::from_json(&session.to_string());
+            if let Some(inner) = probe.session {
+                check_kind(
+                    inner.schema.as_deref(),
+                    inner.version,
+                    "the session in the analysis",
+                )?;
+                let wrapped: Wrapped = crate::reading::read(head, "the analysis file", None)?;
+                wrapped.session.check_limits()?;
+                return Ok(wrapped.session);
             }
             return Err(Error::Document {
                 message: format!(
@@ -171,49 +221,162 @@ impl Session {
         ))
     }
 
-    /// Reads a document, checking its schema name and version first.
+    /// Reads a document, checking its size first, then its schema name and version; every
+    /// limit of the module documentation applies.
     pub fn from_json(text: &str) -> Result<Session> {
-        let value: serde_json::Value = serde_json::from_str(text).map_err(|e| Error::Document {
-            message: format!(
-                "not valid JSON (line {}, column {}): {e}",
-                e.line(),
-                e.column()
-            ),
-        })?;
-        let schema = value.get("schema").and_then(|s| s.as_str());
-        if schema != Some(SESSION_SCHEMA) {
-            return Err(Error::Document {
-                message: match schema {
-                    Some(other) => format!("schema '{other}' is not '{SESSION_SCHEMA}'"),
-                    None => format!("no 'schema' field: not a {SESSION_SCHEMA} document"),
-                },
-            });
+        if text.len() > MAX_DOCUMENT_BYTES {
+            return Err(too_long(
+                "the session document",
+                text.len(),
+                MAX_DOCUMENT_BYTES,
+            ));
         }
-        match value.get("version").and_then(serde_json::Value::as_u64) {
-            Some(v) if v == u64::from(SESSION_VERSION) => {}
-            Some(v) if v > u64::from(SESSION_VERSION) => {
+        let head: Head = serde_json::from_str(text).map_err(|e| match e.classify() {
+            serde_json::error::Category::Data => Error::Document {
+                message: format!(
+                    "the document is not a {SESSION_SCHEMA} document: \"schema\" must be \"{SESSION_SCHEMA}\" \
+                     and \"version\" a whole number"
+                ),
+            },
+            _ => crate::reading::read::<serde::de::IgnoredAny>(text, "the session document", None)
+                .err()
+                .unwrap_or_else(|| Error::Document {
+                    message: "the session document cannot be read".into(),
+                }),
+        })?;
+        check_kind(head.schema.as_deref(), head.version, "the session document")?;
+        let session: Session = crate::reading::read(text, "the session document", None)?;
+        session.check_limits()?;
+        Ok(session)
+    }
+
+    /// Refuses text fields longer than [`MAX_TEXT_CHARS`] (the lists are bounded as they are
+    /// read, the table when it is read).
+    fn check_limits(&self) -> Result<()> {
+        let long = |what: &str, t: &str| -> Result<()> {
+            if t.len() > MAX_TEXT_CHARS && t.chars().count() > MAX_TEXT_CHARS {
                 return Err(Error::Document {
                     message: format!(
-                        "version {v} was written by a newer Rungs; this one reads version \
-                         {SESSION_VERSION}"
+                        "{what} is longer than {MAX_TEXT_CHARS} characters, the limit for such \
+                         text in a document"
                     ),
                 });
             }
-            Some(v) => {
-                return Err(Error::Document {
-                    message: format!("unknown version {v}"),
-                });
-            }
-            None => {
-                return Err(Error::Document {
-                    message: "no 'version' field".into(),
-                });
-            }
+            Ok(())
+        };
+        if let Some(n) = &self.input.name {
+            long("the file name (\"name\" under \"input\")", n)?;
         }
-        serde_json::from_str(text).map_err(|e| Error::Document {
-            message: format!("{SESSION_SCHEMA} {SESSION_VERSION}: {e}"),
-        })
+        long("\"written_by\"", &self.written_by)?;
+        for e in &self.intake.exclusions {
+            long(
+                &format!("the reason given for excluding row {}", e.row),
+                &e.reason,
+            )?;
+        }
+        let b = &self.settings.bands;
+        for i in &b.isotopologues {
+            long(
+                "an isotopologue tag or atom (\"isotopologues\" under \"bands\")",
+                &i.tag,
+            )?;
+            long(
+                "an isotopologue tag or atom (\"isotopologues\" under \"bands\")",
+                &i.a,
+            )?;
+            long(
+                "an isotopologue tag or atom (\"isotopologues\" under \"bands\")",
+                &i.b,
+            )?;
+        }
+        for t in b.predict.iter().chain(&b.reference) {
+            long(
+                "an isotopologue tag (\"predict\" or \"reference\" under \"bands\")",
+                t,
+            )?;
+        }
+        if let Some(MassSpec::Nuclides { a, b }) = &self.settings.mass {
+            long("an atom of the mass (\"a\" or \"b\" under \"mass\")", a)?;
+            long("an atom of the mass (\"a\" or \"b\" under \"mass\")", b)?;
+        }
+        Ok(())
     }
+}
+
+/// Analysis settings alone, as JSON text (missing keys take their defaults), with the limits
+/// and messages of a session document's `settings`.
+pub fn settings_from_json(text: &str) -> Result<AnalysisSettings> {
+    if text.len() > MAX_DOCUMENT_BYTES {
+        return Err(too_long("the settings", text.len(), MAX_DOCUMENT_BYTES));
+    }
+    crate::reading::read(text, "the settings", Some("settings"))
+}
+
+/// The refusal of a text longer than its limit.
+fn too_long(what: &str, len: usize, limit: usize) -> Error {
+    Error::Document {
+        message: format!(
+            "{what} is {:.1} MiB long, more than the limit of {} MiB; it is not read",
+            len as f64 / 1_048_576.0,
+            limit / 1_048_576
+        ),
+    }
+}
+
+/// Checks the schema name and version found by a first pass.
+fn check_kind(schema: Option<&str>, version: Option<u64>, what: &str) -> Result<()> {
+    if schema != Some(SESSION_SCHEMA) {
+        return Err(Error::Document {
+            message: match schema {
+                Some(other) => format!("{what} has schema '{other}', not '{SESSION_SCHEMA}'"),
+                None => format!("{what} has no 'schema' field: not a {SESSION_SCHEMA} document"),
+            },
+        });
+    }
+    match version {
+        Some(v) if v == u64::from(SESSION_VERSION) => Ok(()),
+        Some(v) if v > u64::from(SESSION_VERSION) => Err(Error::Document {
+            message: format!(
+                "{what} has version {v}, written by a newer Rungs; this one reads version \
+                 {SESSION_VERSION}"
+            ),
+        }),
+        Some(v) => Err(Error::Document {
+            message: format!(
+                "{what} has unknown version {v}: this Rungs reads version {SESSION_VERSION}"
+            ),
+        }),
+        None => Err(Error::Document {
+            message: format!("{what} has no 'version' field"),
+        }),
+    }
+}
+
+/// A parse error of the first pass in plain words (its position only).
+fn plain_probe_error(e: &serde_json::Error) -> String {
+    format!("line {}, column {}", e.line(), e.column())
+}
+
+/// The first pass over a session document: its type only (other keys are skipped unkept).
+#[derive(Deserialize)]
+struct Head {
+    schema: Option<String>,
+    version: Option<u64>,
+}
+
+/// The first pass over any JSON file opened: a session document has `schema`, an exported
+/// analysis `session` (null when it was exported without one).
+#[derive(Deserialize)]
+struct Probe {
+    schema: Option<serde::de::IgnoredAny>,
+    #[serde(default)]
+    session: Option<Head>,
+}
+
+/// An exported analysis read for its session only.
+#[derive(Deserialize)]
+struct Wrapped {
+    session: Session,
 }
 
 #[cfg(test)]
@@ -254,10 +417,11 @@ mod tests {
             (json.replace("rungs-session", "other"), "schema 'other'"),
             (json.replace("\"version\": 1", "\"version\": 2"), "newer"),
             (json.replace("\"version\": 1,", ""), "no 'version'"),
-            ("{".to_string(), "not valid JSON"),
+            ("{".to_string(), "ends too early"),
+            ("{]".to_string(), "not valid JSON"),
             (
                 "{\"schema\": \"rungs-session\", \"version\": 1}".to_string(),
-                "missing field",
+                "has no \"written_by\"",
             ),
         ] {
             let e = Session::from_json(&bad).expect_err(fragment).to_string();

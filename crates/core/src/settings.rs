@@ -172,8 +172,10 @@ pub struct BandSettings {
     /// state's asymptote; gives the lower state's D0″ from the upper state's convergence limit.
     pub atomic_excitation_cm1: Option<f64>,
     /// Atoms of isotopologue tags that are not written as two nuclide labels.
+    #[serde(deserialize_with = "crate::reading::at_most_names")]
     pub isotopologues: Vec<IsotopologueMasses>,
     /// Isotopologues to predict levels and band positions for (tags, resolved like data tags).
+    #[serde(deserialize_with = "crate::reading::at_most_names")]
     pub predict: Vec<String>,
     /// Reference isotopologue (its tag); `None`: the one with the most bands.
     pub reference: Option<String>,

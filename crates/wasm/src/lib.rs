@@ -14,7 +14,6 @@ use rungs_core::intake::{self, DataSet, IntakeOptions, Role, RowStatus};
 use rungs_core::pipeline::Analysis;
 use rungs_core::report::{ExcludedRow, LevelOut, PlotData, Report, ResidualOut, SpacingOut};
 use rungs_core::session::Session;
-use rungs_core::settings::AnalysisSettings;
 use rungs_core::units::Unit;
 use serde::{Deserialize, Serialize};
 use wasm_bindgen::prelude::*;
@@ -38,6 +37,13 @@ pub fn version() -> String {
 #[wasm_bindgen]
 pub fn codata_year() -> u32 {
     rungs_core::constants::CODATA_YEAR
+}
+
+/// Longest session document the module reads, in bytes (the share link's inflating limit must
+/// agree with it).
+#[wasm_bindgen]
+pub fn session_max_bytes() -> usize {
+    rungs_core::session::MAX_DOCUMENT_BYTES
 }
 
 /// The built-in SYNTHETIC examples: `[{id, title, description, file_name}]`.
@@ -513,7 +519,7 @@ impl Workbench {
     /// Text, not a JS object: settings are read by the same serde_json code that reads session
     /// documents, so the module carries one deserialiser for them, not two.
     pub fn set_settings(&mut self, settings_json: &str) -> Result<(), JsError> {
-        let settings: AnalysisSettings = serde_json::from_str(settings_json).map_err(js_err)?;
+        let settings = rungs_core::session::settings_from_json(settings_json).map_err(js_err)?;
         let session = self
             .session
             .as_mut()

@@ -1127,7 +1127,7 @@ fn convergence_limit(
         d0_lower_from_levels_cm1: lower_own,
         note: format!(
             "E_lim = T00 (global fit) + D0′ (upper state, {}); σ_stat adds the two σ in quadrature, neglecting their correlation (both come from the same bands; T00's σ is usually the smaller); σ_model is that of D0′{}",
-            crate::methods::method_name(&method),
+            crate::words::method_name(&method),
             if e_atom.is_some() {
                 "; D0″ = E_lim − E_atom with E_atom as typed (taken as exact)"
             } else {

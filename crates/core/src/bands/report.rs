@@ -464,7 +464,7 @@ fn render_band_summary(s: &mut String, r: &BandReport) {
                         } else {
                             ""
                         },
-                        crate::methods::method_name(m)
+                        crate::words::method_name(m)
                     ));
                 }
                 _ => parts.push(format!("D0{prime}: no recommended value")),

@@ -48,6 +48,14 @@ pub const MIN_SPACINGS: usize = 2;
 /// Fewest usable bands (of one isotopologue) for any analysis: three, which in one progression
 /// give the two spacings of a Birge–Sponer line (see [`MIN_LEVELS`]).
 pub const MIN_BANDS: usize = 3;
+/// Longest table read, in bytes of text: 16 MiB, four times a 200 000-line table of four
+/// numbers a row. Checked before the table is read, so what a table makes the reader allocate
+/// (about a hundred times its text, every cell kept) stays bounded.
+pub const MAX_TABLE_BYTES: usize = 16 * 1024 * 1024;
+/// Most lines in a table: 200 000, twice the 100 000-row table of the speed benchmarks and
+/// forty times the largest band list analysed ([`crate::bands::MAX_BANDS`]). Checked before the
+/// table is read.
+pub const MAX_TABLE_LINES: usize = 200_000;
 /// Largest accepted vibrational quantum number. No diatomic potential holds more than a few
 /// hundred bound levels [common practice, no source]; larger numbers are taken as a column mix-up.
 pub const MAX_V: u32 = 1000;
@@ -297,13 +305,22 @@ pub struct IntakeOptions {
     #[serde(skip_serializing_if = "Option::is_none")]
     pub unit: Option<Unit>,
     /// Per-column roles and units.
-    #[serde(skip_serializing_if = "Vec::is_empty")]
+    #[serde(
+        skip_serializing_if = "Vec::is_empty",
+        deserialize_with = "crate::reading::at_most_names"
+    )]
     pub columns: Vec<ColumnOverride>,
     /// Rows excluded by the user.
-    #[serde(skip_serializing_if = "Vec::is_empty")]
+    #[serde(
+        skip_serializing_if = "Vec::is_empty",
+        deserialize_with = "crate::reading::at_most_row_choices"
+    )]
     pub exclusions: Vec<UserExclusion>,
     /// Uncertainties set by the user, replacing what the table says.
-    #[serde(skip_serializing_if = "Vec::is_empty")]
+    #[serde(
+        skip_serializing_if = "Vec::is_empty",
+        deserialize_with = "crate::reading::at_most_row_choices"
+    )]
     pub sigmas: Vec<SigmaEdit>,
 }
 
@@ -756,12 +773,42 @@ impl DataSet {
     }
 }
 
+/// Refuses a table over [`MAX_TABLE_BYTES`] or [`MAX_TABLE_LINES`] before anything of it is kept.
+pub(crate) fn check_table_size(text: &str) -> Result<()> {
+    if text.len() > MAX_TABLE_BYTES {
+        return Err(Error::Input {
+            message: format!(
+                "the table is {:.1} MiB long, more than the limit of {} MiB; split it or keep \
+                 the rows you need",
+                text.len() as f64 / 1_048_576.0,
+                MAX_TABLE_BYTES / 1_048_576
+            ),
+        });
+    }
+    // Lines end in LF, CRLF or a lone CR: the larger count of either byte is the line count.
+    let (lf, cr) = text.bytes().fold((0usize, 0usize), |(lf, cr), b| {
+        (lf + usize::from(b == b'\n'), cr + usize::from(b == b'\r'))
+    });
+    let ends_open = !text.is_empty() && !text.ends_with(['\n', '\r']);
+    let lines = lf.max(cr) + usize::from(ends_open);
+    if lines > MAX_TABLE_LINES {
+        return Err(Error::Input {
+            message: format!(
+                "the table has {lines} lines, more than the limit of {MAX_TABLE_LINES}; split it \
+                 or keep the rows you need"
+            ),
+        });
+    }
+    Ok(())
+}
+
 /// Reads a table from text. See the module documentation.
 ///
 /// Errors are for the table as a whole (nothing readable, no column for a needed role, a unit
 /// that cannot be used); problems of single rows are kept in the [`DataSet`]. Call
 /// [`DataSet::check_usable`] to learn whether enough rows are usable.
 pub fn read_table(text: &str, options: &IntakeOptions) -> Result<DataSet> {
+    check_table_size(text)?;
     let raw = table::read_records(text, options.delimiter)?;
     let mut diagnostics = Vec::new();
     let decimal_comma_allowed = raw.delimiter != Delimiter::Comma;

@@ -78,6 +78,8 @@ pub fn parse_two_column(
     r_unit: LengthUnit,
     v_unit: EnergyUnit,
 ) -> Result<Vec<(f64, f64)>> {
+    // The limits of any table (bytes and lines), checked before anything of it is kept.
+    crate::intake::check_table_size(text)?;
     let first_data = text
         .lines()
         .map(str::trim)
