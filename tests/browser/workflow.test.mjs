@@ -313,3 +313,32 @@ test('nor in any energy unit the page offers', async () => {
   clean(problems);
   await context.close();
 });
+
+test('binding energies below the asymptote: the headline is the top level\'s binding energy, with v_D mod 1, C6 and the scattering length', async () => {
+  const { page, problems, context } = await fresh();
+  // SOURCE: the n = 6 case of tests/analysis/pure_tail.json (LeRoy–Bernstein closed form;
+  // scattering length by Gribakin & Flambaum's formula, evaluated by scripts/oracles/analysis.py).
+  const fx = JSON.parse(readFileSync(join(ROOT, 'tests/analysis/pure_tail.json'), 'utf8'));
+  const c = fx.cases.find((x) => x.n === 6);
+  const d = c.expected.d_cm1;
+  const rows = c.levels.map((l) => `${l.v},${d - l.energy_cm1},${l.sigma_cm1}`).join('\n');
+  await page.click('#settings-box summary');
+  await mark(page);
+  await page.fill('#settings [name=mass]', String(c.mu_u));
+  await page.press('#settings [name=mass]', 'Enter');
+  await analysed(page);
+  await paste(page, `v,E_b (cm-1),sigma\n${rows}\n`);
+  await analysed(page);
+  const head = await page.textContent('#recommended');
+  assert.match(head, /Binding energy of the highest level/);
+  assert.match(head, /not determined by these data/);
+  assert.doesNotMatch(head, /D0 = /);
+  const line = await page.textContent('#threshold-line');
+  assert.match(line, /asymptote held/i);
+  const a0 = Number(/a = ([0-9.]+)/.exec(line)?.[1]);
+  assert.ok(Math.abs(a0 - c.expected.scattering_length_a0) < 0.01, `a = ${a0} a0 vs ${c.expected.scattering_length_a0}`);
+  const frac = Number(/v_D mod 1 = ([0-9.]+)/.exec(line)?.[1]);
+  assert.ok(Math.abs(frac - (c.expected.v_d - Math.floor(c.expected.v_d))) < 1e-3, `v_D mod 1 = ${frac}`);
+  clean(problems);
+  await context.close();
+});

@@ -117,6 +117,7 @@ export class Results {
           r.asymptote_cm1 !== null && r.asymptote_cm1 !== undefined
             ? ` · asymptote at ${this.energy(r.asymptote_cm1, null, u)[0]} ${label} on the data's energy scale` : '',
           r.v_d !== null && r.v_d !== undefined ? ` · v_D = ${this.num(r.v_d, null, 3)}` : ''),
+        this.thresholdLine(report) ?? '',
         el('p', {}, 'D0 and De: not determined by these data (they start far above v = 0).',
           ` · method: ${report.estimates.find((e) => e.method === r.method)?.label ?? r.method}`),
         el('p', { class: 'reason' }, r.reason),
@@ -147,6 +148,22 @@ export class Results {
     }
     const w = clear($('warnings'));
     for (const text of report.warnings) w.append(el('li', {}, text));
+  }
+
+  // v_D mod 1, C_n and the scattering length from the near-dissociation fit that holds a given
+  // asymptote, else the primary one (null when neither gave them).
+  thresholdLine(report) {
+    const pick = ['leroy-bernstein-known-asymptote', 'leroy-bernstein']
+      .map((m) => report.estimates.find((e) => e.method === m && e.leroy_bernstein?.v_d_fraction != null))
+      .find((e) => e);
+    if (!pick) return null;
+    const lb = pick.leroy_bernstein;
+    const parts = [`From the ${pick.label}: v_D mod 1 = ${this.num(lb.v_d_fraction, null, 3)}`];
+    if (lb.cn_cm1_an) parts.push(`C_${lb.n.value} = ${this.num(lb.cn_cm1_an.value, lb.cn_cm1_an.sigma)} cm⁻¹ Å^${lb.n.value}`);
+    if (lb.scattering_length_a0) {
+      parts.push(`s-wave scattering length a = ${this.num(lb.scattering_length_a0.value, lb.scattering_length_a0.sigma)} a0`);
+    }
+    return el('p', { id: 'threshold-line' }, parts.join(' · '));
   }
 
   estimatesTable(report, u, label) {
