@@ -618,19 +618,9 @@ fn render_expansion(s: &mut String, x: &ExpansionDetails) {
     let _ = writeln!(s, "      orders tried: {}", tried.join("; "));
 }
 
-/// Render a report as readable plain text.
-pub fn render_text(r: &Report) -> String {
+/// The answer first: recommended D0 with its interval, De, ωe, ωexe, order, warning count.
+fn text_summary(s: &mut String, r: &Report) {
     use std::fmt::Write;
-    let mut s = String::new();
-    let _ = writeln!(
-        s,
-        "Rungs vibrational analysis  (format {} v{}, rungs-core {}, CODATA {})",
-        r.format, r.format_version, r.software_version, r.codata_year
-    );
-    let _ = writeln!(s, "{}", "=".repeat(78));
-    let _ = writeln!(s, "{}", r.statement);
-    let _ = writeln!(s);
-
     // The answer first: the recommended D0 with its interval, De, ωe, ωexe, the order used and
     // how many warnings follow; every number rounded to its σ as the page shows it.
     {
@@ -721,7 +711,11 @@ pub fn render_text(r: &Report) -> String {
         );
         let _ = writeln!(s);
     }
+}
 
+/// What was read, where σ came from, and the table of polynomial orders.
+fn text_data_and_orders(s: &mut String, r: &Report) {
+    use std::fmt::Write;
     let kind = match r.input.kind {
         DataKind::Levels => "levels",
         DataKind::Spacings => "spacings",
@@ -780,7 +774,11 @@ pub fn render_text(r: &Report) -> String {
         let _ = writeln!(s, "  Order {} forced by the settings.", r.fit.order);
     }
     let _ = writeln!(s);
+}
 
+/// Vibrational constants, Dunham coefficients and residuals of the selected fit.
+fn text_constants(s: &mut String, r: &Report) {
+    use std::fmt::Write;
     let _ = writeln!(
         s,
         "Vibrational constants (order-{} fit{}), cm⁻¹",
@@ -845,7 +843,11 @@ pub fn render_text(r: &Report) -> String {
         );
     }
     let _ = writeln!(s);
+}
 
+/// Every estimate of the limit with its details.
+fn text_estimates(s: &mut String, r: &Report) {
+    use std::fmt::Write;
     let _ = writeln!(
         s,
         "Dissociation limit by each method (cm⁻¹; σ from the data covariance, data σ scaled per method as marked; MC = Monte Carlo median [16 %, 84 %])"
@@ -964,7 +966,7 @@ pub fn render_text(r: &Report) -> String {
             }
         }
         if let Some(x) = &e.expansion {
-            render_expansion(&mut s, x);
+            render_expansion(s, x);
         }
         if let Some(bs) = &e.birge_sponer
             && let (Some(a), Some(b)) = (&bs.line_intercept_cm1, &bs.line_slope_cm1)
@@ -980,7 +982,11 @@ pub fn render_text(r: &Report) -> String {
         let _ = writeln!(s, "      {}", e.defensible_reason);
     }
     let _ = writeln!(s);
+}
 
+/// The recommendation with its interval and reason.
+fn text_recommended(s: &mut String, r: &Report) {
+    use std::fmt::Write;
     let rec = &r.recommended;
     let _ = writeln!(s, "Recommended");
     match (&rec.method, rec.d0_cm1) {
@@ -1060,7 +1066,11 @@ pub fn render_text(r: &Report) -> String {
     }
     let _ = writeln!(s, "  Reason: {}", rec.reason);
     let _ = writeln!(s);
+}
 
+/// Morse parameters, the potential check, Monte Carlo, warnings, conventions, assumptions.
+fn text_closing(s: &mut String, r: &Report) {
+    use std::fmt::Write;
     if let Some(m) = &r.morse {
         let _ = writeln!(s, "Morse parameters ({})", m.source);
         let _ = writeln!(
@@ -1144,5 +1154,26 @@ pub fn render_text(r: &Report) -> String {
     for a in &r.assumptions {
         let _ = writeln!(s, "  - {a}");
     }
+}
+
+/// Render a report as readable plain text.
+pub fn render_text(r: &Report) -> String {
+    use std::fmt::Write;
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "Rungs vibrational analysis  (format {} v{}, rungs-core {}, CODATA {})",
+        r.format, r.format_version, r.software_version, r.codata_year
+    );
+    let _ = writeln!(s, "{}", "=".repeat(78));
+    let _ = writeln!(s, "{}", r.statement);
+    let _ = writeln!(s);
+
+    text_summary(&mut s, r);
+    text_data_and_orders(&mut s, r);
+    text_constants(&mut s, r);
+    text_estimates(&mut s, r);
+    text_recommended(&mut s, r);
+    text_closing(&mut s, r);
     s
 }

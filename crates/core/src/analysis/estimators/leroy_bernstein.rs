@@ -4,7 +4,7 @@
 use super::{Estimator, Fitted, sample, vs};
 use crate::analysis::prepare::Prepared;
 use crate::constants::BOHR_ANGSTROM;
-use crate::extrapolate::near_dissociation::{self as nd, LbOutcome, LbVariant};
+use crate::extrapolate::near_dissociation::{self as nd, LbFit, LbOutcome, LbVariant};
 use crate::extrapolate::{Context, Limit, Lin, Nominal};
 use crate::recommend::{Family, FitEvidence};
 use crate::report::{Curve, LbDetails, ValueSigma};
@@ -188,49 +188,7 @@ impl Estimator for LeroyBernstein {
         let rel_lb = p.rel_of(own_chi2r.map_or(1.0, |c| p.policy(c)));
         let d_x = f.d.grad_scaled(rel_lb);
         let d0 = d_x.minus(&p.e0_x);
-        details.n = if n_fitted {
-            vs(&f.n, cov_opt)
-        } else {
-            ValueSigma::new(f.n.value, None)
-        };
-        details.d_cm1 = Some(if details.asymptote_known {
-            ValueSigma::new(f.d.value, None)
-        } else {
-            vs(&f.d, cov_opt)
-        });
-        details.v_d_fraction = Some(f.v_d.value - f.v_d.value.floor());
-        details.x0_cm1 = Some(if cn_fixed {
-            ValueSigma::new(f.x0.value, None)
-        } else {
-            vs(&f.x0, cov_opt)
-        });
-        details.chi2 = Some(f.chi2);
-        details.dof = Some(f.dof);
-        details.termination = Some(f.termination);
-        details.iterations = Some(f.iterations);
-        if let Some(top) = &p.top_x {
-            details.top_binding_cm1 = Some(vs(&d_x.minus(top), cov_opt));
-        }
-        if let Some(mu) = p.mu_u {
-            let cn = cn_of(&f.n, &f.x0, mu);
-            let s = if cn_fixed {
-                None
-            } else {
-                cov_opt.map(|c| cn.sigma(c))
-            };
-            details.cn_cm1_an = Some(ValueSigma::new(cn.value, s));
-            let au = nd::cn_to_atomic_units(f.n.value, 1.0);
-            details.cn_au = Some(ValueSigma::new(cn.value * au, s.map(|x| x * au)));
-            if f.n.value == 6.0
-                && let Some(a) = scattering_length(&f.v_d, &cn, mu)
-            {
-                let sa = cov_opt.map(|c| a.sigma(c));
-                details.scattering_length_angstrom = Some(ValueSigma::new(a.value, sa));
-                let b = 1.0 / BOHR_ANGSTROM;
-                details.scattering_length_a0 =
-                    Some(ValueSigma::new(a.value * b, sa.map(|x| x * b)));
-            }
-        }
+        fill_details(p, &f, &d_x, &mut details);
         if n_fitted
             && cov_opt.is_some()
             && let Some(s) = details.n.sigma
@@ -295,6 +253,55 @@ impl Estimator for LeroyBernstein {
             cn_fitted,
             own_chi2r,
             prescaled: true,
+        }
+    }
+}
+
+/// The fitted parameters with σ (unscaled: the report applies the estimate's own factor), v_D
+/// mod 1, the top level's binding energy, and with μ the C_n and (n = 6) the scattering length.
+fn fill_details(p: &Prepared, f: &LbFit, d_x: &Lin, details: &mut LbDetails) {
+    let cov_opt = p.cov_opt();
+    let (n_fitted, cn_fixed) = (details.n_fitted, details.cn_fixed);
+    details.n = if n_fitted {
+        vs(&f.n, cov_opt)
+    } else {
+        ValueSigma::new(f.n.value, None)
+    };
+    details.d_cm1 = Some(if details.asymptote_known {
+        ValueSigma::new(f.d.value, None)
+    } else {
+        vs(&f.d, cov_opt)
+    });
+    details.v_d_fraction = Some(f.v_d.value - f.v_d.value.floor());
+    details.x0_cm1 = Some(if cn_fixed {
+        ValueSigma::new(f.x0.value, None)
+    } else {
+        vs(&f.x0, cov_opt)
+    });
+    details.chi2 = Some(f.chi2);
+    details.dof = Some(f.dof);
+    details.termination = Some(f.termination);
+    details.iterations = Some(f.iterations);
+    if let Some(top) = &p.top_x {
+        details.top_binding_cm1 = Some(vs(&d_x.minus(top), cov_opt));
+    }
+    if let Some(mu) = p.mu_u {
+        let cn = cn_of(&f.n, &f.x0, mu);
+        let s = if cn_fixed {
+            None
+        } else {
+            cov_opt.map(|c| cn.sigma(c))
+        };
+        details.cn_cm1_an = Some(ValueSigma::new(cn.value, s));
+        let au = nd::cn_to_atomic_units(f.n.value, 1.0);
+        details.cn_au = Some(ValueSigma::new(cn.value * au, s.map(|x| x * au)));
+        if f.n.value == 6.0
+            && let Some(a) = scattering_length(&f.v_d, &cn, mu)
+        {
+            let sa = cov_opt.map(|c| a.sigma(c));
+            details.scattering_length_angstrom = Some(ValueSigma::new(a.value, sa));
+            let b = 1.0 / BOHR_ANGSTROM;
+            details.scattering_length_a0 = Some(ValueSigma::new(a.value * b, sa.map(|x| x * b)));
         }
     }
 }
