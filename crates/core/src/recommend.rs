@@ -240,6 +240,12 @@ pub struct Recommended {
     /// Upper end of its interval, cm⁻¹.
     #[serde(default)]
     pub above_top_high_cm1: Option<f64>,
+    /// Its statistical and model σ (those of D0, which it shares), cm⁻¹.
+    #[serde(default)]
+    pub above_top_sigma_stat_cm1: Option<f64>,
+    /// See `above_top_sigma_stat_cm1`.
+    #[serde(default)]
+    pub above_top_sigma_model_cm1: Option<f64>,
     /// The asymptote on the data's energy scale, E(v_top) + `above_top_cm1`, cm⁻¹.
     #[serde(default)]
     pub asymptote_cm1: Option<f64>,
@@ -547,6 +553,8 @@ fn none_recommended() -> Recommended {
         above_top_cm1: None,
         above_top_low_cm1: None,
         above_top_high_cm1: None,
+        above_top_sigma_stat_cm1: None,
+        above_top_sigma_model_cm1: None,
         asymptote_cm1: None,
         d0_determined: true,
     }
@@ -613,6 +621,8 @@ fn recommend_from(
         above_top_cm1: None,
         above_top_low_cm1: None,
         above_top_high_cm1: None,
+        above_top_sigma_stat_cm1: None,
+        above_top_sigma_model_cm1: None,
         asymptote_cm1: None,
         d0_determined: true,
     }
@@ -626,6 +636,8 @@ fn near_threshold_view(rec: &mut Recommended, ev: &Evidence) {
         rec.above_top_cm1 = Some(d0 - obs.value);
         rec.above_top_low_cm1 = rec.d0_low_cm1.map(|l| (l - obs.value).max(0.0));
         rec.above_top_high_cm1 = rec.d0_high_cm1.map(|h| h - obs.value);
+        rec.above_top_sigma_stat_cm1 = rec.sigma_stat_cm1;
+        rec.above_top_sigma_model_cm1 = rec.sigma_model_cm1;
         rec.asymptote_cm1 = ev.e_top.map(|e| e + d0 - obs.value);
     }
     let span = ev.v_top - ev.v_bottom;

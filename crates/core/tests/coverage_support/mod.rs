@@ -340,7 +340,11 @@ pub fn run(c: &Case, knowledge: Knowledge, mc_samples: u32) -> Outcome {
             rec.above_top_high_cm1,
         ),
     };
-    out.sigma_total_cm1 = match (rec.sigma_stat_cm1, rec.sigma_model_cm1) {
+    let sigmas = match c.kind {
+        SetKind::Truncated(_) => (rec.sigma_stat_cm1, rec.sigma_model_cm1),
+        SetKind::NearThreshold(_) => (rec.above_top_sigma_stat_cm1, rec.above_top_sigma_model_cm1),
+    };
+    out.sigma_total_cm1 = match sigmas {
         (Some(a), Some(b)) => Some(a + b),
         _ => None,
     };
