@@ -78,7 +78,9 @@ export class Results {
       host.append(el('p', {}, el('strong', {}, `${name} state: `),
         r && r.d0_cm1 !== null
           ? `D0 = ${this.pm(r.d0_cm1, r.sigma_stat_cm1, u)} (stat)${r.sigma_model_cm1 !== null ? ` ± ${this.energy(r.d0_cm1, r.sigma_model_cm1, u)[1]} (model)` : ''} ${label} — ${r.reason}`
-          : (name === 'Upper' ? doc.states.upper_note : doc.states.lower_note)));
+          : r && r.d0_determined === false && r.above_top_cm1 != null
+            ? `D0 not determined (the levels start far above v = 0); binding energy of the highest level ${this.energy(r.above_top_cm1, null, u)[0]} ${label} — ${r.reason}`
+            : (name === 'Upper' ? doc.states.upper_note : doc.states.lower_note)));
     }
     if (conv.upper_limit_cm1) {
       host.append(el('p', {}, `Upper-state limit above lower v = 0: E_lim = T00 + D0′ = ${this.pm(conv.upper_limit_cm1.value, conv.upper_limit_cm1.sigma, u)} ${label}`,
