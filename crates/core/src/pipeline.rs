@@ -3,8 +3,9 @@
 //! A [`Session`] holds the input text, how it is read, and every setting. [`analyze_session`]
 //! reads the table, resolves the mass, dispatches on the kind of data, and returns an
 //! [`Analysis`]: the single-state [`Report`] for levels and spacings, the two-state
-//! [`BandReport`] for band lists. Either carries the session and the fate of every input row, so
-//! an exported document can be re-imported and shows the rows that were left out and why.
+//! [`BandReport`](crate::bands::BandReport) for band lists. Either carries the session and the
+//! fate of every input row, so an exported document can be re-imported and shows the rows that
+//! were left out and why.
 
 use crate::Result;
 use crate::analysis::{analyze_levels_with_progress, analyze_spacings_with_progress};
