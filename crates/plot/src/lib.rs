@@ -805,6 +805,26 @@ pub fn to_svg(chart: &XyChart, width: u32, height: u32) -> Result<String, PlotEr
 mod tests {
     use super::*;
 
+    /// User text (data set names, isotopologue tags, labels) reaches titles, notes, axis labels
+    /// and legends: the SVG must carry it as escaped text, never as markup (common practice, no
+    /// source: XML text escaping).
+    #[test]
+    fn svg_escapes_user_text() {
+        let payload = "<script>alert(\"x\")</script> & <img src=x onerror=1>";
+        let mut chart = sample();
+        chart.title = format!("title {payload}");
+        chart.note = format!("note {payload}");
+        chart.x_label = format!("x {payload}");
+        chart.y_label = format!("y {payload}");
+        for l in &mut chart.layers {
+            l.label = format!("legend {payload}");
+        }
+        let svg = to_svg(&chart, 800, 600).expect("svg");
+        assert!(!svg.contains("<script") && !svg.contains("<img"), "markup in the SVG");
+        assert!(svg.contains("&lt;script&gt;"), "the text is kept, escaped");
+        assert!(svg.contains("&amp;"), "ampersands escaped");
+    }
+
     /// The legend leaves a corner that data crowd for an emptier one, and keeps its preferred
     /// corner when that is as empty as any (common practice, no source).
     #[test]
