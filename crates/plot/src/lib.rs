@@ -820,7 +820,10 @@ mod tests {
             l.label = format!("legend {payload}");
         }
         let svg = to_svg(&chart, 800, 600).expect("svg");
-        assert!(!svg.contains("<script") && !svg.contains("<img"), "markup in the SVG");
+        assert!(
+            !svg.contains("<script") && !svg.contains("<img"),
+            "markup in the SVG"
+        );
         assert!(svg.contains("&lt;script&gt;"), "the text is kept, escaped");
         assert!(svg.contains("&amp;"), "ampersands escaped");
     }
