@@ -23,6 +23,10 @@ use serde::{Deserialize, Serialize};
 use crate::extrapolate::{DrawValue, Redraw};
 use crate::{Error, Result};
 
+/// Most Monte Carlo samples an analysis accepts: each draw refits every estimator, so the
+/// cap bounds the work a typed number can ask for.
+pub const MAX_SAMPLES: u32 = 1_000_000;
+
 /// Name of the generator, as recorded in reports.
 pub const GENERATOR: &str = "ChaCha8 (rand 0.10) with StandardNormal (rand_distr 0.6)";
 

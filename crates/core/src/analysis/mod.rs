@@ -162,6 +162,19 @@ fn policy_text(p: SigmaScaling) -> &'static str {
     }
 }
 
+/// A whole number with its digits in groups of three (`1 000 000`).
+fn grouped(n: u32) -> String {
+    let d = n.to_string();
+    let mut out = String::new();
+    for (i, c) in d.chars().enumerate() {
+        if i > 0 && (d.len() - i).is_multiple_of(3) {
+            out.push(' ');
+        }
+        out.push(c);
+    }
+    out
+}
+
 pub(crate) fn check_settings(s: &AnalysisSettings, mu_u: Option<f64>) -> Result<()> {
     if !(s.lb_n.is_finite() && s.lb_n > 2.0 && s.lb_n <= 50.0) {
         return Err(Error::parameter(
@@ -198,10 +211,14 @@ pub(crate) fn check_settings(s: &AnalysisSettings, mu_u: Option<f64>) -> Result<
             format!("{o} is outside 1..={}", dunham::MAX_SUPPORTED_ORDER),
         ));
     }
-    if s.mc_samples > 1_000_000 {
+    if s.mc_samples > crate::montecarlo::MAX_SAMPLES {
         return Err(Error::parameter(
-            "mc_samples",
-            format!("{} is more than 1 000 000", s.mc_samples),
+            "Monte Carlo samples",
+            format!(
+                "{} is more than the limit of {}",
+                s.mc_samples,
+                grouped(crate::montecarlo::MAX_SAMPLES)
+            ),
         ));
     }
     if !(s.curved_max_extrapolation.is_finite() && s.curved_max_extrapolation > 0.0) {
