@@ -14,6 +14,8 @@
 //!   correction and Richardson extrapolation in the step, with an error estimate per level;
 //! - [`compare`]: observed − calculated levels and B_v, χ² and a plain-language verdict
 //!   ([`rkr_loop_check`] does constants → RKR → levels → verdict in one call);
+//! - [`mlr`]: the Morse/long-range form with its closed-form parameter derivatives, and [`dpf`]:
+//!   the direct fit of it to observed levels (Hellmann–Feynman derivatives from the solver);
 //! - [`fcf`]: Franck–Condon factors between the levels of two potentials;
 //! - [`PotentialSpec`]: any of these curves as plain (serde) data, built with `build()`.
 //!
@@ -22,7 +24,9 @@
 
 pub mod analytic;
 pub mod compare;
+pub mod dpf;
 pub mod fcf;
+pub mod mlr;
 pub mod pointwise;
 mod quadrature;
 pub mod rkr;
@@ -33,6 +37,7 @@ pub mod walls;
 pub use analytic::{Harmonic, LennardJones, Morse};
 pub use compare::{Alignment, LoopCheck, LoopRow, Verdict, compare_levels, rkr_loop_check};
 pub use fcf::{FcfSettings, FcfTable, franck_condon_factors};
+pub use mlr::{LongRangeTerm, Mlr};
 pub use pointwise::{EnergyUnit, LengthUnit, PointwisePotential, parse_two_column};
 pub use rkr::{
     ConstantsLevel, ConstantsPotential, DiatomicConstants, MAX_V_MAX, RkrCurve, RkrInput, RkrPoint,
@@ -86,6 +91,8 @@ pub enum PotentialSpec {
     Morse(Morse),
     /// D_e/(n − m) [m (r_e/r)ⁿ − n (r_e/r)^m].
     LennardJones(LennardJones),
+    /// Morse/long-range: a Morse-like well with the long-range tail De − Σ C_m/r^m.
+    Mlr(Mlr),
     /// A table (r Å, V cm⁻¹) interpolated by a cubic spline, walls extended.
     Pointwise {
         /// The points.
@@ -118,6 +125,10 @@ impl PotentialSpec {
             }
             PotentialSpec::LennardJones(l) => {
                 Box::new(LennardJones::new(l.de_cm1, l.re_angstrom, l.n, l.m)?)
+            }
+            PotentialSpec::Mlr(m) => {
+                m.validate()?;
+                Box::new(m.clone())
             }
             PotentialSpec::Pointwise { points, outer } => {
                 Box::new(PointwisePotential::new(points, *outer)?)

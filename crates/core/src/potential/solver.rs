@@ -1231,6 +1231,63 @@ pub fn solve_levels(
     mu_u: f64,
     settings: &SolverSettings,
 ) -> Result<LevelSet> {
+    solve(potential, mu_u, settings, None).map(|(set, _)| set)
+}
+
+/// Functions f_k(r) whose expectation values ⟨ψ_v|f_k|ψ_v⟩ are wanted for every level: `count`
+/// of them, written by `eval(r, out)` into `out[..count]`.
+pub struct Probe<'a> {
+    /// Number of functions.
+    pub count: usize,
+    /// Their values at r (Å).
+    pub eval: &'a dyn Fn(f64, &mut [f64]),
+}
+
+/// [`solve_levels`], and for every level the expectation values ⟨ψ_v|f_k|ψ_v⟩ of the probe's
+/// functions (for Hellmann–Feynman derivatives ∂E_v/∂p = ⟨ψ_v|∂V/∂p|ψ_v⟩), computed on the
+/// finest grid the level was solved on.
+pub fn solve_levels_probed(
+    potential: &dyn Potential,
+    mu_u: f64,
+    settings: &SolverSettings,
+    probe: &Probe<'_>,
+) -> Result<(LevelSet, Vec<Vec<f64>>)> {
+    solve(potential, mu_u, settings, Some(probe))
+}
+
+/// ∫ψ² f_k dr = h Σ J_i ψ_i² f_k(r_i) on `grid` for the normalised ψ of [`level_state`]; the
+/// probe values of the grid are evaluated once and kept in `cache`.
+fn expectations(
+    grid: &Grid,
+    psi: &[f64],
+    end: usize,
+    probe: &Probe<'_>,
+    cache: &mut Vec<f64>,
+) -> Vec<f64> {
+    let k = probe.count;
+    if cache.len() != k * grid.len() {
+        cache.clear();
+        cache.resize(k * grid.len(), 0.0);
+        for (i, &r) in grid.r.iter().enumerate() {
+            (probe.eval)(r, &mut cache[i * k..(i + 1) * k]);
+        }
+    }
+    let mut out = vec![0.0; k];
+    for i in 1..end {
+        let w = grid.h * grid.jac[i] * psi[i] * psi[i];
+        for (o, f) in out.iter_mut().zip(&cache[i * k..(i + 1) * k]) {
+            *o += w * f;
+        }
+    }
+    out
+}
+
+fn solve(
+    potential: &dyn Potential,
+    mu_u: f64,
+    settings: &SolverSettings,
+    probe: Option<&Probe<'_>>,
+) -> Result<(LevelSet, Vec<Vec<f64>>)> {
     let problem = Problem::new(potential, mu_u, settings.j)?;
     let mut plan = plan(&problem, settings, true)?;
     let tol = settings.tolerance_cm1;
@@ -1371,6 +1428,8 @@ pub fn solve_levels(
         halvings += 1;
     }
     let mut levels = Vec::with_capacity(n_levels);
+    let mut probed = Vec::with_capacity(if probe.is_some() { n_levels } else { 0 });
+    let mut caches: Vec<Vec<f64>> = vec![Vec::new(); grids.len()];
     let mut converged = true;
     for v in 0..n_levels {
         let (a, b) = (prev[v], last[v]);
@@ -1383,10 +1442,16 @@ pub fn solve_levels(
         let grid = &grids[b.grid];
         let boundary_limited = !grid.decays_by(e, grid.len() - 1, 0.5 * decay);
         let (r_in, r_out) = turning_points(&problem, grid, e);
-        let wavefunction = (settings.wavefunction_points > 0).then(|| {
+        let wants_state = settings.wavefunction_points > 0 || probe.is_some();
+        if wants_state {
             level_state(grid, b.e, b.end, &mut psi);
-            sample_wavefunction(grid, &psi[..=b.end], settings.wavefunction_points)
-        });
+        }
+        if let Some(pr) = probe {
+            let cache = &mut caches[b.grid];
+            probed.push(expectations(grid, &psi, b.end, pr, cache));
+        }
+        let wavefunction = (settings.wavefunction_points > 0)
+            .then(|| sample_wavefunction(grid, &psi[..=b.end], settings.wavefunction_points));
         levels.push(BoundLevel {
             v: v as u32,
             energy_cm1: e - plan.v_min,
@@ -1413,7 +1478,7 @@ pub fn solve_levels(
         );
     }
     let step_at_min = |g: &Grid| g.h * g.jac[g.imin];
-    Ok(LevelSet {
+    let set = LevelSet {
         mu_u,
         j: settings.j,
         minimum: potential.minimum(),
@@ -1432,7 +1497,8 @@ pub fn solve_levels(
         converged,
         limit_reached,
         notes: plan.notes,
-    })
+    };
+    Ok((set, probed))
 }
 
 /// Classical turning points of V_J at e (continuous curve, bracketed on the grid).

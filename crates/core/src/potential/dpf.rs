@@ -1,0 +1,530 @@
+//! Direct potential fit: an MLR curve ([`super::mlr`]) fitted to observed vibrational levels by
+//! solving the radial Schrödinger equation inside the fit.
+//!
+//! Weighted least squares of the data (level energies on any origin, with one fitted offset, or
+//! spacings ΔG_{v+½}) over De, β_0 … β_N and, optionally, a common factor λ of the long-range
+//! coefficients (fitted as ln λ). re, p, q, r_ref and the powers m are held fixed: vibrational
+//! levels alone fix the width of the well as a function of energy, not its position, so re comes
+//! from rotational constants or from the user (Le Roy et al., J. Chem. Phys. 131, 204309 (2009),
+//! from memory).
+//!
+//! The eigenvalue derivatives are Hellmann–Feynman expectation values ∂E_v/∂θ = ⟨ψ_v|∂V/∂θ|ψ_v⟩
+//! on the solver's wavefunctions ([`super::solver::solve_levels_probed`]). The iteration is
+//! damped Gauss–Newton (Levenberg–Marquardt with Marquardt's diagonal scaling; the textbook
+//! algorithm, as in [`crate::extrapolate::lm`], written here for a parameter count known only at
+//! run time and a model that is one eigenvalue solve per evaluation). The number of β terms is
+//! chosen by AICc among the converged fits, as every other order in the project is.
+//!
+//! The fit's sensitivity to the data, S = (J_wᵀJ_w)⁻¹ J_wᵀ W, gives every derived quantity
+//! (De, D0 = De − E(v = 0)) as a linear function of the data for σ and for Monte Carlo draws.
+
+use nalgebra::{DMatrix, DVector};
+use serde::{Deserialize, Serialize};
+
+use super::Potential;
+use super::mlr::{LongRangeTerm, Mlr};
+use super::solver::{Probe, SolverSettings, solve_levels, solve_levels_probed};
+use crate::constants::C_U_CM1_U_A2;
+use crate::dunham::DataKind;
+use crate::extrapolate::lm::{Termination, Whitener};
+
+/// Most evaluations (eigenvalue solves) of one fit before it stops as not converged.
+const MAX_EVALUATIONS: usize = 60;
+
+/// What is held fixed in a direct fit, and how far the β polynomial may grow.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct DpfSpec {
+    /// Reduced mass, u.
+    pub mu_u: f64,
+    /// Equilibrium distance held fixed, Å.
+    pub re_angstrom: f64,
+    /// Power p.
+    pub p: u32,
+    /// Power q.
+    pub q: u32,
+    /// Reference distance r_ref, Å.
+    pub r_ref_angstrom: f64,
+    /// Long-range terms (their C_m are starting values when `fit_tail`).
+    pub tail: Vec<LongRangeTerm>,
+    /// Tang–Toennies damping range, 1/Å (`None`: undamped).
+    pub damping_b_per_angstrom: Option<f64>,
+    /// Fit a common factor of the long-range coefficients (otherwise they are held fixed).
+    pub fit_tail: bool,
+    /// Most β terms tried.
+    pub max_beta: usize,
+}
+
+impl DpfSpec {
+    /// Defaults for one tail C_n/rⁿ: p = n − … chosen as max(5, spread + 1) with the spread of the
+    /// long-range powers, q = 3, r_ref = 1.3 re (common practice, no source: p above the spread of
+    /// the powers is required by the form; q ≈ 2–4 and r_ref a little beyond re are usual).
+    pub fn defaults(mu_u: f64, re_angstrom: f64, tail: Vec<LongRangeTerm>, fit_tail: bool) -> Self {
+        let spread = tail.last().map_or(0, |t| t.m) - tail.first().map_or(0, |t| t.m);
+        DpfSpec {
+            mu_u,
+            re_angstrom,
+            p: (spread + 1).max(5),
+            q: 3,
+            r_ref_angstrom: 1.3 * re_angstrom,
+            tail,
+            damping_b_per_angstrom: None,
+            fit_tail,
+            max_beta: 8,
+        }
+    }
+
+    fn curve(&self, de: f64, beta: &[f64], ln_lambda: f64) -> Mlr {
+        Mlr {
+            de_cm1: de,
+            re_angstrom: self.re_angstrom,
+            p: self.p,
+            q: self.q,
+            r_ref_angstrom: self.r_ref_angstrom,
+            beta: beta.to_vec(),
+            tail: self.tail.clone(),
+            damping_b_per_angstrom: self.damping_b_per_angstrom,
+        }
+        .with_tail_scaled(ln_lambda.exp())
+    }
+}
+
+/// The observations of a direct fit.
+#[derive(Debug, Clone)]
+pub struct DpfData {
+    /// Levels (one offset fitted) or spacings keyed by the lower level.
+    pub kind: DataKind,
+    /// Vibrational quantum numbers (whole numbers ≥ 0).
+    pub v: Vec<u32>,
+    /// Energies or spacings, cm⁻¹.
+    pub y: Vec<f64>,
+    /// Whitening of the residuals (from the data covariance).
+    pub whitener: Whitener,
+}
+
+/// One number of β terms tried.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct BetaOrder {
+    /// Number of β coefficients.
+    pub terms: usize,
+    /// χ² of the fit.
+    pub chi2: Option<f64>,
+    /// AICc of a converged fit.
+    pub aicc: Option<f64>,
+    /// Why it was not usable, when it was not.
+    pub refused: Option<String>,
+}
+
+/// The outcome of a direct fit.
+#[derive(Debug, Clone)]
+pub struct DpfFit {
+    /// The fitted curve.
+    pub mlr: Mlr,
+    /// Parameter values (De, β_0…, [ln λ], [offset]) and their names in words.
+    pub theta: Vec<f64>,
+    /// Names of the parameters.
+    pub names: Vec<String>,
+    /// Unscaled parameter covariance (J_wᵀJ_w)⁻¹.
+    pub cov: DMatrix<f64>,
+    /// Sensitivity ∂θ/∂y (P × m).
+    pub sensitivity: DMatrix<f64>,
+    /// χ² against the data σ.
+    pub chi2: f64,
+    /// Degrees of freedom.
+    pub dof: usize,
+    /// Why the iteration stopped.
+    pub termination: Termination,
+    /// Calculated values of the data (same kind and order as the data).
+    pub calc: Vec<f64>,
+    /// E(v = 0) above the minimum, cm⁻¹, and its gradient ∂/∂θ.
+    pub e0_cm1: f64,
+    /// ∂E(v = 0)/∂θ.
+    pub e0_grad: Vec<f64>,
+    /// Number of bound levels of the fitted curve (J = 0).
+    pub bound_levels: Option<usize>,
+    /// Every number of β terms tried.
+    pub orders: Vec<BetaOrder>,
+    /// Eigenvalue solves used in all.
+    pub evaluations: usize,
+}
+
+/// Model values and Jacobian at one θ.
+struct Eval {
+    f: Vec<f64>,
+    jac: DMatrix<f64>,
+    e0: f64,
+    e0_grad: Vec<f64>,
+}
+
+/// Layout of θ for `nb` β terms.
+#[derive(Clone, Copy)]
+struct Layout {
+    nb: usize,
+    tail: bool,
+    offset: bool,
+}
+
+impl Layout {
+    fn len(&self) -> usize {
+        1 + self.nb + usize::from(self.tail) + usize::from(self.offset)
+    }
+    fn ln_lambda(&self, th: &[f64]) -> f64 {
+        if self.tail { th[1 + self.nb] } else { 0.0 }
+    }
+}
+
+fn solver_settings(levels: usize) -> SolverSettings {
+    SolverSettings {
+        max_levels: Some(levels),
+        tolerance_cm1: 2e-4,
+        wavefunction_points: 0,
+        ..SolverSettings::default()
+    }
+}
+
+/// Solve the curve of θ and differentiate the data's model values.
+fn evaluate(spec: &DpfSpec, data: &DpfData, lay: Layout, th: &[f64]) -> Option<Eval> {
+    let de = th[0];
+    if !(de.is_finite() && de > 0.0) || th.iter().any(|x| !x.is_finite()) {
+        return None;
+    }
+    let mlr = spec.curve(de, &th[1..1 + lay.nb], lay.ln_lambda(th));
+    mlr.validate().ok()?;
+    let v_max = *data.v.iter().max()? as usize + usize::from(data.kind == DataKind::Spacings);
+    let np = lay.nb + 2;
+    let eval = |r: f64, out: &mut [f64]| mlr.parameter_derivatives(r, out);
+    let probe = Probe {
+        count: np,
+        eval: &eval,
+    };
+    let (set, ex) =
+        solve_levels_probed(&mlr, spec.mu_u, &solver_settings(v_max + 1), &probe).ok()?;
+    if set.levels.len() <= v_max {
+        return None;
+    }
+    let e: Vec<f64> = set.levels.iter().map(|l| l.energy_cm1).collect();
+    // Hellmann–Feynman gradient of level v in θ's layout (offset excluded).
+    let grad = |v: usize| -> Vec<f64> {
+        let mut g = vec![0.0; lay.len()];
+        g[..1 + lay.nb].copy_from_slice(&ex[v][..1 + lay.nb]);
+        if lay.tail {
+            g[1 + lay.nb] = ex[v][1 + lay.nb];
+        }
+        g
+    };
+    let m = data.v.len();
+    let mut f = vec![0.0; m];
+    let mut jac = DMatrix::zeros(m, lay.len());
+    let off = lay.len() - 1;
+    for (i, &v) in data.v.iter().enumerate() {
+        let v = v as usize;
+        let (val, g) = match data.kind {
+            DataKind::Levels => (if lay.offset { th[off] } else { 0.0 } + e[v], grad(v)),
+            DataKind::Spacings => {
+                let (a, b) = (grad(v + 1), grad(v));
+                (
+                    e[v + 1] - e[v],
+                    a.iter().zip(&b).map(|(x, y)| x - y).collect(),
+                )
+            }
+        };
+        f[i] = val;
+        for (k, gk) in g.iter().enumerate() {
+            jac[(i, k)] = *gk;
+        }
+        if lay.offset {
+            jac[(i, off)] = 1.0;
+        }
+    }
+    Some(Eval {
+        f,
+        jac,
+        e0: e[0],
+        e0_grad: grad(0),
+    })
+}
+
+/// Whitened residuals and χ².
+fn residuals(data: &DpfData, f: &[f64]) -> (Vec<f64>, f64) {
+    let d: Vec<f64> = data.y.iter().zip(f).map(|(y, f)| y - f).collect();
+    let mut r = vec![0.0; d.len()];
+    data.whitener.apply(&d, &mut r);
+    let chi2 = r.iter().map(|x| x * x).sum();
+    (r, chi2)
+}
+
+/// One Levenberg–Marquardt run from θ; returns θ, its evaluation, χ², the termination and the
+/// number of evaluations.
+fn levenberg_marquardt(
+    spec: &DpfSpec,
+    data: &DpfData,
+    lay: Layout,
+    mut th: Vec<f64>,
+) -> (Vec<f64>, Option<Eval>, f64, Termination, usize) {
+    let w = data.whitener.matrix();
+    let Some(mut cur) = evaluate(spec, data, lay, &th) else {
+        return (th, None, f64::INFINITY, Termination::InvalidStart, 1);
+    };
+    let (mut r, mut chi2) = residuals(data, &cur.f);
+    let mut evals = 1;
+    let mut damping = 1e-3;
+    loop {
+        let jw = &w * &cur.jac;
+        let a = jw.transpose() * &jw;
+        let g = jw.transpose() * DVector::from_column_slice(&r);
+        if g.amax() <= 1e-12 * (1.0 + chi2) {
+            return (th, Some(cur), chi2, Termination::GradientConverged, evals);
+        }
+        let mut accepted = false;
+        while evals < MAX_EVALUATIONS {
+            let mut ad = a.clone();
+            for k in 0..ad.nrows() {
+                ad[(k, k)] += damping * a[(k, k)].max(1e-12);
+            }
+            let Some(step) = ad.cholesky().map(|c| c.solve(&g)) else {
+                damping *= 10.0;
+                continue;
+            };
+            let trial: Vec<f64> = th.iter().zip(step.iter()).map(|(t, s)| t + s).collect();
+            evals += 1;
+            match evaluate(spec, data, lay, &trial) {
+                Some(e) => {
+                    let (rt, ct) = residuals(data, &e.f);
+                    if ct < chi2 {
+                        let small_step = step
+                            .iter()
+                            .zip(&th)
+                            .all(|(s, t)| s.abs() <= 1e-9 * (1.0 + t.abs()));
+                        let small_gain = chi2 - ct <= 1e-10 * chi2;
+                        th = trial;
+                        cur = e;
+                        r = rt;
+                        chi2 = ct;
+                        damping = (damping / 10.0).max(1e-12);
+                        if small_step {
+                            return (th, Some(cur), chi2, Termination::ParametersConverged, evals);
+                        }
+                        if small_gain {
+                            return (th, Some(cur), chi2, Termination::ChiSquareConverged, evals);
+                        }
+                        accepted = true;
+                        break;
+                    }
+                    damping *= 10.0;
+                }
+                None => damping *= 10.0,
+            }
+            if damping > 1e12 {
+                // No step lowers χ² any more: at a minimum to the solver's accuracy.
+                let term = if chi2 <= 1e-8 * data.y.len() as f64 {
+                    Termination::ExactFit
+                } else {
+                    Termination::NoProgress
+                };
+                return (th, Some(cur), chi2, term, evals);
+            }
+        }
+        if !accepted {
+            return (th, Some(cur), chi2, Termination::MaxIterations, evals);
+        }
+    }
+}
+
+/// A starting curve: De from the data (the larger of 1.1 × the top level above the minimum and
+/// ωe²/4ωexe), β_0 so that the harmonic wavenumber at re is ωe (k = 2De·a², ωe = 2a√(C_u De/μ),
+/// with a = −d ln A/dr at re), the long-range coefficients as given.
+pub fn start(spec: &DpfSpec, we_cm1: f64, wexe_cm1: f64, top_above_min_cm1: f64) -> (f64, f64) {
+    let bs = if wexe_cm1 > 0.0 {
+        we_cm1 * we_cm1 / (4.0 * wexe_cm1)
+    } else {
+        0.0
+    };
+    let de = (1.1 * top_above_min_cm1).max(bs).max(1.0);
+    let probe = spec.curve(de, &[0.0], 0.0);
+    let re = spec.re_angstrom;
+    let h = 1e-5 * re;
+    let n_eff = -re * (probe.u_lr(re + h).ln() - probe.u_lr(re - h).ln()) / (2.0 * h);
+    let a = we_cm1 / (2.0 * (C_U_CM1_U_A2 * de / spec.mu_u).sqrt());
+    let beta_re = (a - n_eff / re) * 2.0 * re / f64::from(spec.p);
+    let y = |x: f64, k: u32| {
+        let (a, b) = (re.powi(k as i32), x.powi(k as i32));
+        (a - b) / (a + b)
+    };
+    let y_ref = y(spec.r_ref_angstrom, spec.p);
+    let beta0 = (beta_re - probe.beta_inf() * y_ref) / (1.0 - y_ref);
+    (de, beta0)
+}
+
+/// Fit 1 … `spec.max_beta` β terms from the start (De, β_0), each from the previous optimum, and
+/// keep the converged fit of least AICc. `Err` with the reason when none converges.
+pub fn fit(spec: &DpfSpec, data: &DpfData, de0: f64, beta0: f64) -> Result<DpfFit, String> {
+    let m = data.v.len();
+    let offset = data.kind == DataKind::Levels;
+    let mut orders = Vec::new();
+    let mut best: Option<(f64, Layout, Vec<f64>, Eval, f64, Termination)> = None;
+    let mut prev: Vec<f64> = vec![de0, beta0];
+    if spec.fit_tail {
+        prev.push(0.0);
+    }
+    if offset {
+        prev.push(0.0);
+    }
+    let mut evaluations = 0;
+    let mut worse = 0;
+    for nb in 1..=spec.max_beta {
+        let lay = Layout {
+            nb,
+            tail: spec.fit_tail,
+            offset,
+        };
+        if m <= lay.len() + 1 {
+            break;
+        }
+        // θ for nb terms: the previous optimum with β_{nb−1} = 0.
+        let mut th = prev.clone();
+        if nb > 1 {
+            th.insert(nb, 0.0);
+        }
+        if offset && nb == 1 {
+            // The offset starts at its least-squares value for the starting curve.
+            if let Some(e) = evaluate(
+                spec,
+                data,
+                Layout {
+                    offset: false,
+                    ..lay
+                },
+                &th[..lay.len() - 1],
+            ) {
+                let o = data.y.iter().zip(&e.f).map(|(y, f)| y - f).sum::<f64>() / m as f64;
+                *th.last_mut().unwrap_or(&mut 0.0) = o;
+            }
+        }
+        let (th, ev, chi2, term, n) = levenberg_marquardt(spec, data, lay, th);
+        evaluations += n;
+        let Some(ev) = ev else {
+            orders.push(BetaOrder {
+                terms: nb,
+                chi2: None,
+                aicc: None,
+                refused: Some("the starting curve could not be solved".into()),
+            });
+            break;
+        };
+        let k = lay.len();
+        let aicc = (term.converged() && m > k + 1).then(|| {
+            let kf = k as f64;
+            chi2 + 2.0 * kf + 2.0 * kf * (kf + 1.0) / (m - k - 1) as f64
+        });
+        orders.push(BetaOrder {
+            terms: nb,
+            chi2: Some(chi2),
+            aicc,
+            refused: (!term.converged())
+                .then(|| "the fit did not converge within its iteration limit".into()),
+        });
+        prev = th.clone();
+        if let Some(a) = aicc {
+            match &best {
+                Some((b, ..)) if a >= *b => worse += 1,
+                _ => {
+                    worse = 0;
+                    best = Some((a, lay, th, ev, chi2, term));
+                }
+            }
+        }
+        // Two more terms that do not lower AICc end the search; so does an exact fit.
+        if worse >= 2 || chi2 <= 1e-10 * m as f64 {
+            break;
+        }
+    }
+    let Some((_, lay, th, ev, chi2, term)) = best else {
+        return Err("no number of β terms gave a converged fit".into());
+    };
+    finish(spec, data, lay, th, ev, chi2, term, orders, evaluations)
+}
+
+#[allow(clippy::too_many_arguments)]
+fn finish(
+    spec: &DpfSpec,
+    data: &DpfData,
+    lay: Layout,
+    th: Vec<f64>,
+    ev: Eval,
+    chi2: f64,
+    termination: Termination,
+    orders: Vec<BetaOrder>,
+    evaluations: usize,
+) -> Result<DpfFit, String> {
+    let w = data.whitener.matrix();
+    let jw = &w * &ev.jac;
+    let cov = (jw.transpose() * &jw)
+        .try_inverse()
+        .ok_or("the fitted parameters are not determined by the data (singular normal matrix)")?;
+    let sensitivity = &cov * jw.transpose() * &w;
+    let mlr = spec.curve(th[0], &th[1..1 + lay.nb], lay.ln_lambda(&th));
+    let bound_levels = solve_levels(
+        &mlr,
+        spec.mu_u,
+        &SolverSettings {
+            wavefunction_points: 0,
+            ..SolverSettings::default()
+        },
+    )
+    .ok()
+    .map(|s| s.levels.len());
+    let mut names = vec!["De".to_string()];
+    names.extend((0..lay.nb).map(|i| format!("β{i}")));
+    if lay.tail {
+        names.push("ln λ (factor of the long-range coefficients)".into());
+    }
+    if lay.offset {
+        names.push("energy of the potential minimum on the data's scale".into());
+    }
+    Ok(DpfFit {
+        mlr,
+        theta: th,
+        names,
+        cov,
+        sensitivity,
+        chi2,
+        dof: data.v.len() - lay.len(),
+        termination,
+        calc: ev.f,
+        e0_cm1: ev.e0,
+        e0_grad: ev.e0_grad,
+        bound_levels,
+        orders,
+        evaluations,
+    })
+}
+
+impl DpfFit {
+    /// ∂q/∂y for a quantity q with gradient `dq` in θ.
+    pub fn data_gradient(&self, dq: &[f64]) -> DVector<f64> {
+        self.sensitivity.transpose() * DVector::from_column_slice(dq)
+    }
+
+    /// Gradient of De in θ.
+    pub fn de_grad(&self) -> Vec<f64> {
+        let mut g = vec![0.0; self.theta.len()];
+        g[0] = 1.0;
+        g
+    }
+
+    /// Gradient of D0 = De − E(v = 0) in θ.
+    pub fn d0_grad(&self) -> Vec<f64> {
+        let mut g: Vec<f64> = self.e0_grad.iter().map(|x| -x).collect();
+        g[0] += 1.0;
+        g
+    }
+
+    /// D0 = De − E(v = 0), cm⁻¹.
+    pub fn d0_cm1(&self) -> f64 {
+        self.mlr.de_cm1 - self.e0_cm1
+    }
+
+    /// V at r of the fitted curve.
+    pub fn energy_cm1(&self, r: f64) -> f64 {
+        self.mlr.energy_cm1(r)
+    }
+}
