@@ -68,6 +68,13 @@ pub struct AnalyzeArgs {
     /// Theoretical C_n in cm⁻¹Åⁿ: adds the near-dissociation fits with C_n held fixed (needs μ).
     #[arg(allow_hyphen_values = true, long, value_name = "C")]
     pub cn: Option<f64>,
+    /// Equilibrium distance r_e in Å, held fixed in the direct potential fit (default: from the
+    /// B column of the lowest levels).
+    #[arg(allow_hyphen_values = true, long, value_name = "Å")]
+    pub re: Option<f64>,
+    /// Leave out the direct fit of a potential curve to the levels (faster).
+    #[arg(long)]
+    pub no_potential_fit: bool,
     /// Bands: the two atoms of an isotopologue tag, e.g. `main=29.0,29.0` or `HCl=1H,35Cl`
     /// (nuclide labels, or masses in u with a decimal point); repeatable.
     #[arg(long = "isotopologue", value_name = "TAG=A,B")]
@@ -169,6 +176,12 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
     }
     if let Some(c) = args.cn {
         s.lb_cn_cm1_an = Some(c);
+    }
+    if let Some(re) = args.re {
+        s.re_angstrom = Some(re);
+    }
+    if args.no_potential_fit {
+        s.potential_fit = false;
     }
     if let Some(mu_u) = args.mu {
         s.mass = Some(MassSpec::ReducedMass { mu_u });

@@ -40,8 +40,12 @@ pub enum VUnit {
 #[derive(Debug, Args)]
 pub struct LevelsArgs {
     /// Two-column table r, V (comma, semicolon, tab or blank separated; `#` comments; one
-    /// optional header line).
+    /// optional header line); or, with `--mlr`, a Morse/long-range curve as JSON or an analysis
+    /// document (`rungs analyze --format json`) whose fitted potential is used.
     pub file: PathBuf,
+    /// The file is a Morse/long-range curve (JSON) or an analysis document with a fitted potential.
+    #[arg(long)]
+    pub mlr: bool,
     /// Reduced mass μ, u.
     #[arg(allow_hyphen_values = true, long = "mu")]
     pub mu: f64,
@@ -87,6 +91,9 @@ pub fn run(args: &LevelsArgs) -> Result<String, String> {
     }
     let text =
         std::fs::read_to_string(&args.file).map_err(|e| format!("{}: {e}", args.file.display()))?;
+    if args.mlr {
+        return mlr_levels(args, &text);
+    }
     let r_unit = match args.r_unit {
         RUnit::Angstrom => LengthUnit::Angstrom,
         RUnit::Bohr => LengthUnit::Bohr,
@@ -193,6 +200,66 @@ pub fn run(args: &LevelsArgs) -> Result<String, String> {
                 ));
             }
             out.push_str("E from the potential minimum; ±est: the solver's error estimate.\n");
+            for n in &set.notes {
+                out.push_str(&format!("note: {n}\n"));
+            }
+            out
+        }
+    })
+}
+
+/// Levels of a Morse/long-range curve read from JSON (see [`LevelsArgs::file`]).
+fn mlr_levels(args: &LevelsArgs, text: &str) -> Result<String, String> {
+    let curve = rungs_core::potential::mlr::curve_from_json(text)
+        .map_err(|e| format!("{}: {e}", args.file.display()))?;
+    let settings = SolverSettings {
+        j: args.j,
+        energy_max_cm1: args.energy_max,
+        tolerance_cm1: args.tolerance,
+        wavefunction_points: 0,
+        ..Default::default()
+    };
+    let set = solve_levels(&curve, args.mu, &settings).map_err(|e| e.to_string())?;
+    Ok(match args.format {
+        Format::Json => {
+            let doc = json!({
+                "rungs_version": rungs_core::VERSION,
+                "codata": rungs_core::constants::CODATA_YEAR,
+                "file": args.file.display().to_string(),
+                "curve": curve,
+                "mu_u": args.mu,
+                "j": args.j,
+                "limit_cm1": set.limit_cm1,
+                "grid": set.grid,
+                "converged": set.converged,
+                "levels": set.levels,
+                "notes": set.notes,
+            });
+            serde_json::to_string_pretty(&doc).map_err(|e| e.to_string())? + "\n"
+        }
+        Format::Text => {
+            let mut out = format!(
+                "Morse/long-range curve: De = {:.4} cm-1, r_e = {:.6} Å, {} β terms; μ = {} u, J = {}\n",
+                curve.de_cm1,
+                curve.re_angstrom,
+                curve.beta.len(),
+                args.mu,
+                args.j
+            );
+            out.push_str(&format!(
+                "{:>4} {:>14} {:>12} {:>14}\n",
+                "v", "E/cm-1", "B_v/cm-1", "De-E/cm-1"
+            ));
+            for l in &set.levels {
+                out.push_str(&format!(
+                    "{:>4} {:>14.4} {:>12.7} {:>14.4}\n",
+                    l.v,
+                    l.energy_cm1,
+                    l.b_v_cm1,
+                    curve.de_cm1 - l.energy_cm1
+                ));
+            }
+            out.push_str("E from the potential minimum.\n");
             for n in &set.notes {
                 out.push_str(&format!("note: {n}\n"));
             }

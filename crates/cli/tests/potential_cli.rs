@@ -176,3 +176,49 @@ fn a_huge_v_max_is_refused_with_its_range() {
         assert!(!err.contains("memory allocation"), "{err}");
     }
 }
+
+/// SOURCE: scripts/oracles/mlr_dvr.py (sinc-DVR levels of a SYNTHETIC Morse/long-range well,
+/// tests/potential/mlr_dvr.json). `rungs levels --mlr` reads the curve as JSON — the form an
+/// analysis document carries its fitted potential in — and gives those levels within 10⁻³ cm⁻¹.
+#[test]
+fn levels_of_an_mlr_curve_match_the_dvr() {
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/../../tests/potential/mlr_dvr.json"
+    );
+    let fx: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap();
+    let w = &fx["wells"][0];
+    let curve = serde_json::json!({
+        "de_cm1": w["de_cm1"], "re_angstrom": w["re_angstrom"], "p": w["p"], "q": w["q"],
+        "r_ref_angstrom": w["r_ref_angstrom"], "beta": w["beta"],
+        "tail": w["tail"].as_array().unwrap().iter()
+            .map(|t| serde_json::json!({"m": t[0], "c_cm1_angstrom_m": t[1]})).collect::<Vec<_>>(),
+    });
+    let dir = std::env::temp_dir().join(format!("rungs-mlr-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join("curve.json");
+    std::fs::write(&file, curve.to_string()).unwrap();
+    let mu = w["mu_u"].as_f64().unwrap().to_string();
+    let (code, out, err) = rungs(&[
+        "levels",
+        file.to_str().unwrap(),
+        "--mlr",
+        "--mu",
+        &mu,
+        "--format",
+        "json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let doc: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let want = w["levels_cm1"].as_array().unwrap();
+    let got = doc["levels"].as_array().unwrap();
+    for (g, e) in got.iter().zip(want) {
+        let (g, e) = (g["energy_cm1"].as_f64().unwrap(), e.as_f64().unwrap());
+        assert!((g - e).abs() < 1e-3, "{g} vs {e}");
+    }
+    let (code, _, err) = rungs(&["levels", path, "--mlr", "--mu", "20"]);
+    assert_eq!(code, 2);
+    assert!(err.contains("Morse/long-range curve"), "{err}");
+    std::fs::remove_dir_all(&dir).ok();
+}

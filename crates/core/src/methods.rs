@@ -20,6 +20,9 @@ const AICC: &str = "C. M. Hurvich and C.-L. Tsai, Biometrika 76, 297 (1989)"; //
 const DUNHAM: &str = "J. L. Dunham, Phys. Rev. 41, 721 (1932)"; // from memory
 const RKR: &str = "R. Rydberg, Z. Phys. 73, 376 (1931); O. Klein, Z. Phys. 76, 226 (1932); \
                    A. L. G. Rees, Proc. Phys. Soc. 59, 998 (1947)"; // from memory
+const MLR: &str = "R. J. Le Roy, Y. Huang and C. Jary, J. Chem. Phys. 125, 164310 (2006); R. J. Le \
+                   Roy et al., J. Chem. Phys. 131, 204309 (2009)"; // from memory
+const HELLMANN_FEYNMAN: &str = "R. P. Feynman, Phys. Rev. 56, 340 (1939)"; // from memory
 const COOLEY: &str = "J. W. Cooley, Math. Comput. 15, 363 (1961)"; // from memory
 const AME: &str = "M. Wang et al., Chinese Phys. C 45, 030003 (2021) (AME 2020)"; // from memory
 const CODATA: &str = "CODATA 2022 recommended values of the fundamental physical constants (NIST)";
@@ -114,7 +117,40 @@ fn single_state(r: &Report, refs: &mut Refs, who: &str) -> String {
             "For each estimate the data σ were multiplied by √χ²_ν of its own fit. "
         }
     });
-    if let Some(p) = &r.potential {
+    if let Some(d) = r.estimates.iter().find_map(|e| e.potential_fit.as_ref()) {
+        s.push_str(&format!(
+            "A Morse/long-range potential {} with the tail C_{}/r^{} ({}) was fitted directly to the \
+             data by solving the radial Schrödinger equation in it at every step, with eigenvalue \
+             derivatives from the Hellmann–Feynman theorem {}; {} exponent coefficients were chosen \
+             by AICc {}, and r_e was held fixed ({}). Its D0 = De − E(v = 0) took part in the \
+             recommendation like every other estimate. ",
+            refs.cite(MLR),
+            d.curve.tail[0].m,
+            d.curve.tail[0].m,
+            if d.cn_fixed { "C_n held at the given value" } else { "C_n fitted" },
+            refs.cite(HELLMANN_FEYNMAN),
+            d.beta_terms,
+            refs.cite(AICC),
+            d.re_source
+        ));
+    }
+    if let Some(p) = r
+        .potential
+        .as_ref()
+        .filter(|_| r.potential_comparison.is_some())
+    {
+        s.push_str(&format!(
+            "Its levels were found again by Numerov integration with Cooley's correction {} and \
+             compared with the observed levels ({}); a first-order RKR potential {} from the fitted \
+             G(v) and the given B_v is shown for comparison. ",
+            refs.cite(COOLEY),
+            match p.check.chi2_reduced {
+                Some(c) => format!("χ²/ν = {c:.3}"),
+                None => format!("rms {:.4} cm⁻¹", p.check.rms_cm1),
+            },
+            refs.cite(RKR)
+        ));
+    } else if let Some(p) = &r.potential {
         s.push_str(&format!(
             "A first-order RKR potential {} was built from the fitted G(v) and the given B_v; its \
              levels were found by Numerov integration with Cooley's correction {} and compared with the \

@@ -129,9 +129,23 @@ pub fn analyze_session(
                 settings
             };
             let mut report = analyze_levels_with_progress(&levels, None, mu_u, settings, progress)?;
-            match crate::closing::close_the_loop(&report, &levels, mu_u) {
-                Ok(p) => report.potential = Some(p),
-                Err(why) => report.potential_note = Some(why),
+            let rkr = crate::closing::close_the_loop(&report, &levels, mu_u);
+            match crate::closing::close_with_fitted_potential(&report, &levels, mu_u) {
+                Some(Ok(fitted)) => {
+                    report.potential = Some(fitted);
+                    report.potential_comparison = rkr.ok();
+                }
+                other => {
+                    if let Some(Err(why)) = other {
+                        report.warnings.push(format!(
+                            "the fitted potential could not be solved again for the comparison with the data: {why}"
+                        ));
+                    }
+                    match rkr {
+                        Ok(p) => report.potential = Some(p),
+                        Err(why) => report.potential_note = Some(why),
+                    }
+                }
             }
             single(report)
         }

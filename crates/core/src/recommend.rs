@@ -81,6 +81,8 @@ pub enum Family {
     },
     /// A near-dissociation expansion fitted to all levels (same data as the polynomials).
     Expansion,
+    /// A potential curve fitted to all levels through the radial Schrödinger equation.
+    PotentialFit,
 }
 
 impl Family {
@@ -92,7 +94,11 @@ impl Family {
     }
     /// Fitted to every level, so comparable by AICc with the other models of all levels.
     fn fits_all_levels(self) -> bool {
-        self.is_polynomial() || self == Family::Expansion
+        self.is_polynomial() || self.reaches_the_limit()
+    }
+    /// A model of all levels that rises all the way to a limit (expansion, potential fit).
+    fn reaches_the_limit(self) -> bool {
+        matches!(self, Family::Expansion | Family::PotentialFit)
     }
 }
 
@@ -394,6 +400,9 @@ fn admitted_reason(c: &Candidate) -> String {
         Family::Expansion => format!(
             "its expansion describes all the levels{q}, and its levels rise and its spacings shrink all the way to the limit"
         ),
+        Family::PotentialFit => format!(
+            "the levels of its potential curve describe all the observed levels{q}, and the curve reaches the limit along its long-range tail"
+        ),
         _ => format!(
             "its polynomial describes the levels{q} and its limit lies above the observed sum"
         ),
@@ -430,7 +439,7 @@ fn prefer(
                 .unwrap_or(f64::INFINITY)
                 .total_cmp(&aicc(b).unwrap_or(f64::INFINITY))
         });
-    let has_expansion = by_aicc.is_some() && first(&|c| c.family == Family::Expansion).is_some();
+    let has_expansion = by_aicc.is_some() && first(&|c| c.family.reaches_the_limit()).is_some();
     if has_expansion {
         return by_aicc.map(|i| (i, Basis::Aicc));
     }
@@ -475,7 +484,7 @@ fn reason_for(c: &Candidate, ev: &Evidence, basis: Basis, lone: bool) -> String 
     let near = ev.spacing_ratio.is_some_and(|r| r <= NEAR_RATIO);
     let mut s = match c.family {
         _ if basis == Basis::Aicc => format!(
-            "of the admitted models of all the levels (polynomials and the near-dissociation expansion), this one has the lowest AICc, so it is preferred; the levels reach {} of the well",
+            "of the admitted models of all the levels (polynomials, the near-dissociation expansion and the fitted potential), this one has the lowest AICc, so it is preferred; the levels reach {} of the well",
             pct(coverage)
         ),
         Family::NearDissociation { .. } if near => format!(

@@ -330,6 +330,67 @@ pub struct ExpansionDetails {
     pub orders: Vec<ExpansionOrder>,
 }
 
+/// One fitted parameter of the direct potential fit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FittedParameter {
+    /// Its name (De, β0, β1, …, C6).
+    pub name: String,
+    /// Its unit (empty for pure numbers).
+    pub unit: String,
+    /// Value and σ (scaled as the estimate's D0 is).
+    pub value: ValueSigma,
+}
+
+/// One datum of the direct potential fit: observed and calculated.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PotentialFitRow {
+    /// Vibrational level (the lower level for a spacing).
+    pub v: u32,
+    /// Observed level energy or spacing, cm⁻¹.
+    pub observed_cm1: f64,
+    /// The fitted curve's value, cm⁻¹ (levels: on the data's energy scale).
+    pub calculated_cm1: f64,
+    /// Observed B_v when it was fitted, cm⁻¹.
+    #[serde(default)]
+    pub b_observed_cm1: Option<f64>,
+    /// The fitted curve's B_v, cm⁻¹.
+    #[serde(default)]
+    pub b_calculated_cm1: Option<f64>,
+}
+
+/// Direct fit of a Morse/long-range potential to the levels.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PotentialFitDetails {
+    /// The fitted curve, in the form `rungs levels` and the page accept.
+    pub curve: crate::potential::Mlr,
+    /// Fitted parameters with σ.
+    pub parameters: Vec<FittedParameter>,
+    /// C_n of the tail, cm⁻¹ Åⁿ (σ null when held fixed).
+    pub cn_cm1_an: ValueSigma,
+    /// Whether C_n was held at a given value.
+    pub cn_fixed: bool,
+    /// Where the fixed re came from, in words.
+    pub re_source: String,
+    /// Number of β coefficients chosen by AICc.
+    pub beta_terms: usize,
+    /// Every number of β terms tried.
+    pub orders: Vec<crate::potential::dpf::BetaOrder>,
+    /// χ² against the data σ.
+    pub chi2: f64,
+    /// Degrees of freedom.
+    pub dof: usize,
+    /// Whether the fit converged.
+    pub converged: bool,
+    /// Eigenvalue solves used.
+    pub evaluations: usize,
+    /// Bound levels of the fitted curve (J = 0).
+    pub bound_levels: Option<usize>,
+    /// E(v = 0) above the minimum of the fitted curve, cm⁻¹.
+    pub e0_cm1: f64,
+    /// Observed and calculated value of every datum.
+    pub rows: Vec<PotentialFitRow>,
+}
+
 /// One estimate of the dissociation limit.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Estimate {
@@ -376,6 +437,9 @@ pub struct Estimate {
     /// Near-dissociation expansion details.
     #[serde(default)]
     pub expansion: Option<ExpansionDetails>,
+    /// Direct potential fit details (`potential-fit-mlr`).
+    #[serde(default)]
+    pub potential_fit: Option<PotentialFitDetails>,
 }
 
 /// Monte Carlo settings as run.
@@ -496,10 +560,14 @@ pub struct Report {
     pub warnings: Vec<String>,
     /// Plot series.
     pub plot: PlotData,
-    /// The RKR potential built from the constants and the given B_v, its levels, and the
-    /// observed − calculated check (from [`crate::pipeline`]; see [`crate::closing`]).
+    /// The potential curve of the closed loop, its levels, and the observed − calculated check
+    /// (from [`crate::pipeline`]; see [`crate::closing`]): the potential fitted directly to the
+    /// levels when there is one, else the RKR curve built from the constants and the given B_v.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub potential: Option<PotentialOut>,
+    /// The RKR curve as a comparison, when `potential` is the fitted one.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub potential_comparison: Option<PotentialOut>,
     /// Why there is no potential curve.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub potential_note: Option<String>,
@@ -575,6 +643,56 @@ fn gsig(x: f64) -> String {
 }
 
 /// The near-dissociation expansion's parameters and the correction orders it tried.
+/// The direct potential fit's parameters, its fit and where its fixed parts came from.
+fn render_potential_fit(s: &mut String, x: &PotentialFitDetails) {
+    use std::fmt::Write;
+    let params: Vec<String> = x
+        .parameters
+        .iter()
+        .map(|p| {
+            let unit = if p.unit.is_empty() {
+                String::new()
+            } else {
+                format!(" {}", p.unit)
+            };
+            format!(
+                "{} = {}{unit}",
+                p.name,
+                pm(Some(p.value.value), p.value.sigma, 6)
+            )
+        })
+        .collect();
+    let _ = writeln!(s, "      {}", params.join(";  "));
+    let _ = writeln!(
+        s,
+        "      {} β terms (by AICc); χ² = {:.3} for ν = {}{}; {} radial-equation solves; {} bound levels; {}",
+        x.beta_terms,
+        x.chi2,
+        x.dof,
+        if x.converged {
+            ""
+        } else {
+            " (did not converge)"
+        },
+        x.evaluations,
+        x.bound_levels.map_or("—".to_string(), |n| n.to_string()),
+        x.re_source
+    );
+    let c = &x.curve;
+    let _ = writeln!(
+        s,
+        "      p = {}, q = {}, r_ref = {:.4} Å{}",
+        c.p,
+        c.q,
+        c.r_ref_angstrom,
+        if x.cn_fixed {
+            "; C_n held at the given value"
+        } else {
+            ""
+        }
+    );
+}
+
 fn render_expansion(s: &mut String, x: &ExpansionDetails) {
     use std::fmt::Write;
     let _ = writeln!(
@@ -967,6 +1085,9 @@ fn text_estimates(s: &mut String, r: &Report) {
         }
         if let Some(x) = &e.expansion {
             render_expansion(s, x);
+        }
+        if let Some(x) = &e.potential_fit {
+            render_potential_fit(s, x);
         }
         if let Some(bs) = &e.birge_sponer
             && let (Some(a), Some(b)) = (&bs.line_intercept_cm1, &bs.line_slope_cm1)

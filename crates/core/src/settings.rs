@@ -117,6 +117,13 @@ pub struct AnalysisSettings {
     /// |studentized residual| above which a point is flagged as a possible outlier.
     #[serde(default = "default_outlier_threshold")]
     pub outlier_threshold: f64,
+    /// Fit a Morse/long-range potential curve directly to the levels (needs μ and r_e or B_v).
+    #[serde(default = "default_true")]
+    pub potential_fit: bool,
+    /// Equilibrium distance r_e (Å) held fixed in the direct potential fit; `None` takes it
+    /// from the B_v of the lowest levels when the data have them.
+    #[serde(default)]
+    pub re_angstrom: Option<f64>,
     /// Choices that apply to band lists only (see [`BandSettings`]).
     #[serde(default)]
     pub bands: BandSettings,
@@ -233,6 +240,8 @@ impl Default for AnalysisSettings {
             curved_max_extrapolation: default_curved_max_extrapolation(),
             near_dissociation_coverage: default_near_dissociation_coverage(),
             outlier_threshold: default_outlier_threshold(),
+            potential_fit: true,
+            re_angstrom: None,
             bands: BandSettings::default(),
         }
     }

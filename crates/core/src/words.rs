@@ -23,6 +23,11 @@ const METHOD_NAMES: &[(&str, &str)] = &[
         "near-dissociation expansion (C_n given)",
     ),
     ("near-dissociation-expansion", "near-dissociation expansion"),
+    (
+        "potential-fit-mlr-cn-fixed",
+        "fitted MLR potential (C_n given)",
+    ),
+    ("potential-fit-mlr", "fitted MLR potential"),
 ];
 
 /// The short name of a method for people (`"linear Birge–Sponer"`); an unknown id as it is.

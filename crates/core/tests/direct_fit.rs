@@ -63,12 +63,13 @@ fn spec_of(w: &Value) -> DpfSpec {
 }
 
 fn data_of(levels: &[f64], sigma: f64) -> DpfData {
-    DpfData {
-        kind: DataKind::Levels,
-        v: (0..levels.len() as u32).collect(),
-        y: levels.iter().map(|e| e - levels[0]).collect(),
-        whitener: Whitener::Diagonal(vec![1.0 / sigma; levels.len()]),
-    }
+    DpfData::new(
+        DataKind::Levels,
+        (0..levels.len() as u32).collect(),
+        levels.iter().map(|e| e - levels[0]).collect(),
+        Whitener::Diagonal(vec![1.0 / sigma; levels.len()]),
+        sigma,
+    )
 }
 
 /// SOURCE: scripts/oracles/mlr_dvr.py — its own NumPy evaluation of the published MLR form

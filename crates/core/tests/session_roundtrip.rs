@@ -107,6 +107,7 @@ fn settings() -> impl Strategy<Value = AnalysisSettings> {
             prop::option::of(finite_f64()),
         ),
         band_settings(),
+        (any::<bool>(), prop::option::of(finite_f64())),
     )
         .prop_map(
             |(
@@ -122,6 +123,7 @@ fn settings() -> impl Strategy<Value = AnalysisSettings> {
                     asymptote_cm1,
                 ),
                 bands,
+                (potential_fit, re_angstrom),
             )| AnalysisSettings {
                 mc_samples,
                 seed,
@@ -137,6 +139,8 @@ fn settings() -> impl Strategy<Value = AnalysisSettings> {
                 near_dissociation_coverage,
                 outlier_threshold,
                 asymptote_cm1,
+                potential_fit,
+                re_angstrom,
                 bands,
             },
         )

@@ -86,6 +86,7 @@ fn estimates(
             birge_sponer: f.bs,
             leroy_bernstein: f.lb,
             expansion: f.expansion,
+            potential_fit: f.potential_fit,
         };
         match &f.nominal {
             Nominal::Limit(l) => {
@@ -470,6 +471,7 @@ pub(super) fn report(p: Prepared, o: Outcome, bv: &[(f64, f64)]) -> Report {
         warnings,
         plot,
         potential: None,
+        potential_comparison: None,
         potential_note: None,
         rows: None,
         input_sha256: None,

@@ -247,6 +247,14 @@ pub(crate) fn check_settings(s: &AnalysisSettings, mu_u: Option<f64>) -> Result<
             "C_n must be a positive number",
         ));
     }
+    if let Some(re) = s.re_angstrom
+        && !(re.is_finite() && (0.1..=100.0).contains(&re))
+    {
+        return Err(Error::parameter(
+            "equilibrium distance r_e",
+            "must be a distance between 0.1 and 100 Å",
+        ));
+    }
     if let Some(d) = s.asymptote_cm1
         && !(d.is_finite() && d.abs() <= crate::intake::MAX_ABS_ENERGY_CM1)
     {
@@ -347,7 +355,9 @@ fn run(
     progress: &mut dyn FnMut(usize, usize),
 ) -> Result<Report> {
     let mut warnings: Vec<String> = Vec::new();
-    let prepared = prepare::prepare(data, source, mu_u, settings, &mut warnings)?;
+    let mut prepared = prepare::prepare(data, source, mu_u, settings, &mut warnings)?;
+    prepared.be_for_re = be_of_lowest(bv);
+    prepared.bv = bv.to_vec();
     let mut works = estimators::run_all(&prepared, &mut warnings);
     let scales = assess::scales(&prepared, &works, &mut warnings);
     let mc = assess::monte_carlo(&prepared, &mut works, &scales, progress, &mut warnings);
@@ -360,6 +370,22 @@ fn run(
         warnings,
     };
     Ok(assemble::report(prepared, outcome, bv))
+}
+
+/// B_e at v = −½ from the B_v of the lowest (up to six) levels: a line through two or three, a
+/// parabola in (v + ½) through more (the lowest levels, where B_v is smooth in v).
+fn be_of_lowest(bv: &[(f64, f64)]) -> Option<f64> {
+    let mut low = bv.to_vec();
+    low.sort_by(|a, b| a.0.total_cmp(&b.0));
+    low.truncate(6);
+    if low.len() < 2 {
+        return None;
+    }
+    let cols = if low.len() > 3 { 3 } else { 2 };
+    let d = DMatrix::from_fn(low.len(), cols, |i, j| (low[i].0 + 0.5).powi(j as i32));
+    let y: Vec<f64> = low.iter().map(|b| b.1).collect();
+    let f = crate::lsq::fit(&d, &y, crate::lsq::Weights::Unit).ok()?;
+    (f.params[0] > 0.0).then_some(f.params[0])
 }
 
 /// Be (and σ when estimable) from B_v = Be − αe(v+½) by unweighted least squares.

@@ -51,6 +51,10 @@ pub(super) struct Prepared<'a> {
     pub e0_x: Lin,
     /// The top observed level with the data σ as given (`None` across a gap).
     pub top_x: Option<Lin>,
+    /// B_e extrapolated from the lowest given B_v (for r_e of a potential), cm⁻¹.
+    pub be_for_re: Option<f64>,
+    /// The given rotational constants (v, B_v), cm⁻¹.
+    pub bv: Vec<(f64, f64)>,
 }
 
 impl Prepared<'_> {
@@ -145,6 +149,8 @@ pub(super) fn prepare<'a>(
         },
         e0_x: Lin::constant(0.0, 0),
         top_x: None,
+        be_for_re: None,
+        bv: Vec::new(),
     };
     context(&mut p, warnings);
     Ok(p)

@@ -28,8 +28,17 @@ use crate::constants::C_U_CM1_U_A2;
 use crate::dunham::DataKind;
 use crate::extrapolate::lm::{Termination, Whitener};
 
-/// Most evaluations (eigenvalue solves) of one fit before it stops as not converged.
-const MAX_EVALUATIONS: usize = 60;
+/// Most evaluations (eigenvalue solves) of the fit of each number of β terms in the scan; its χ²
+/// then ranks it (an upper bound of its minimum) and starts the next.
+const SCAN_EVALUATIONS: usize = 400;
+/// J of the second solve whose Hellmann–Feynman derivatives, less those at J = 0 and divided by
+/// J(J + 1), give ∂B_v/∂θ: large enough that the difference stands well above the grids'
+/// discretisation, small enough that centrifugal distortion (a relative 4B²J(J+1)/ωe², about
+/// 10⁻⁴ for typical constants) does not matter.
+const B_DIFFERENCE_J: u32 = 10;
+/// Most evaluations of the final fit of the chosen number of terms before it stops as not
+/// converged.
+const MAX_EVALUATIONS: usize = 400;
 
 /// What is held fixed in a direct fit, and how far the β polynomial may grow.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -69,14 +78,18 @@ impl DpfSpec {
             tail,
             damping_b_per_angstrom: None,
             fit_tail,
-            max_beta: 8,
+            max_beta: 12,
         }
     }
 
     fn curve(&self, de: f64, beta: &[f64], ln_lambda: f64) -> Mlr {
+        self.curve_at(de, beta, ln_lambda, self.re_angstrom)
+    }
+
+    fn curve_at(&self, de: f64, beta: &[f64], ln_lambda: f64, re: f64) -> Mlr {
         Mlr {
             de_cm1: de,
-            re_angstrom: self.re_angstrom,
+            re_angstrom: re,
             p: self.p,
             q: self.q,
             r_ref_angstrom: self.r_ref_angstrom,
@@ -99,6 +112,48 @@ pub struct DpfData {
     pub y: Vec<f64>,
     /// Whitening of the residuals (from the data covariance).
     pub whitener: Whitener,
+    /// Level accuracy asked of the solver, cm⁻¹.
+    pub solver_tolerance_cm1: f64,
+    /// χ² changes below this are the solver's noise, not progress.
+    pub noise_chi2: f64,
+    /// Rotational constants fitted with the levels: (v, B_v, σ) in cm⁻¹. With them r_e is fitted
+    /// too (B_v fix the position of the well).
+    pub rotation: Vec<(u32, f64, f64)>,
+}
+
+impl DpfData {
+    /// The data with the solver accuracy set from the smallest σ: a fiftieth of it (within
+    /// 10⁻⁵ … 10⁻³ cm⁻¹), so that the solver's errors add less than 10⁻³ to χ² per datum.
+    pub fn new(
+        kind: DataKind,
+        v: Vec<u32>,
+        y: Vec<f64>,
+        whitener: Whitener,
+        sigma_min_cm1: f64,
+    ) -> Self {
+        let tol = (0.02 * sigma_min_cm1).clamp(1e-5, 1e-3);
+        let noise = 1e-3 * v.len() as f64;
+        DpfData {
+            kind,
+            v,
+            y,
+            whitener,
+            solver_tolerance_cm1: tol,
+            noise_chi2: noise,
+            rotation: Vec::new(),
+        }
+    }
+
+    /// The same data with rotational constants (v, B_v, σ) fitted beside them.
+    pub fn with_rotation(mut self, rotation: Vec<(u32, f64, f64)>) -> Self {
+        self.rotation = rotation;
+        self
+    }
+
+    /// Number of fitted values: levels or spacings, then B_v.
+    fn len(&self) -> usize {
+        self.v.len() + self.rotation.len()
+    }
 }
 
 /// One number of β terms tried.
@@ -135,6 +190,10 @@ pub struct DpfFit {
     pub termination: Termination,
     /// Calculated values of the data (same kind and order as the data).
     pub calc: Vec<f64>,
+    /// Calculated B_v of the rotational data, in their order.
+    pub b_calc: Vec<f64>,
+    /// r_e of the fitted curve and its σ (fitted with B_v; σ `None` when held fixed), Å.
+    pub re_fitted: Option<f64>,
     /// E(v = 0) above the minimum, cm⁻¹, and its gradient ∂/∂θ.
     pub e0_cm1: f64,
     /// ∂E(v = 0)/∂θ.
@@ -149,7 +208,9 @@ pub struct DpfFit {
 
 /// Model values and Jacobian at one θ.
 struct Eval {
+    /// Model values: levels or spacings, then B_v.
     f: Vec<f64>,
+    /// Their Jacobian (unwhitened).
     jac: DMatrix<f64>,
     e0: f64,
     e0_grad: Vec<f64>,
@@ -160,60 +221,116 @@ struct Eval {
 struct Layout {
     nb: usize,
     tail: bool,
+    re: bool,
     offset: bool,
 }
 
 impl Layout {
+    /// θ = (De, β_0 … β_{nb−1}, [ln λ], [r_e], [offset]).
     fn len(&self) -> usize {
-        1 + self.nb + usize::from(self.tail) + usize::from(self.offset)
+        1 + self.nb + usize::from(self.tail) + usize::from(self.re) + usize::from(self.offset)
     }
     fn ln_lambda(&self, th: &[f64]) -> f64 {
         if self.tail { th[1 + self.nb] } else { 0.0 }
     }
+    fn re_index(&self) -> usize {
+        1 + self.nb + usize::from(self.tail)
+    }
+    fn re(&self, spec: &DpfSpec, th: &[f64]) -> f64 {
+        if self.re {
+            th[self.re_index()]
+        } else {
+            spec.re_angstrom
+        }
+    }
+    fn curve(&self, spec: &DpfSpec, th: &[f64]) -> Mlr {
+        spec.curve_at(
+            th[0],
+            &th[1..1 + self.nb],
+            self.ln_lambda(th),
+            self.re(spec, th),
+        )
+    }
 }
 
-fn solver_settings(levels: usize) -> SolverSettings {
+fn solver_settings(levels: usize, tolerance_cm1: f64) -> SolverSettings {
     SolverSettings {
         max_levels: Some(levels),
-        tolerance_cm1: 2e-4,
+        tolerance_cm1,
         wavefunction_points: 0,
         ..SolverSettings::default()
     }
 }
 
-/// Solve the curve of θ and differentiate the data's model values.
+/// Solve the curve of θ and differentiate the data's model values: levels by Hellmann–Feynman,
+/// B_v = ∂E_v/∂[J(J+1)] by the difference of the Hellmann–Feynman derivatives at J = [`B_DIFFERENCE_J`] and J = 0
+/// (first order in J(J+1); centrifugal distortion enters at the next).
 fn evaluate(spec: &DpfSpec, data: &DpfData, lay: Layout, th: &[f64]) -> Option<Eval> {
     let de = th[0];
     if !(de.is_finite() && de > 0.0) || th.iter().any(|x| !x.is_finite()) {
         return None;
     }
-    let mlr = spec.curve(de, &th[1..1 + lay.nb], lay.ln_lambda(th));
+    let mlr = lay.curve(spec, th);
     mlr.validate().ok()?;
-    let v_max = *data.v.iter().max()? as usize + usize::from(data.kind == DataKind::Spacings);
-    let np = lay.nb + 2;
-    let eval = |r: f64, out: &mut [f64]| mlr.parameter_derivatives(r, out);
+    let re = mlr.re_angstrom;
+    let h = 1e-6 * re;
+    let (up, down) = (
+        Mlr {
+            re_angstrom: re + h,
+            ..mlr.clone()
+        },
+        Mlr {
+            re_angstrom: re - h,
+            ..mlr.clone()
+        },
+    );
+    let v_max = data
+        .v
+        .iter()
+        .chain(data.rotation.iter().map(|b| &b.0))
+        .max()
+        .copied()? as usize
+        + usize::from(data.kind == DataKind::Spacings);
+    // Probe: ∂V/∂De, ∂V/∂β_i, ∂V/∂ln λ (closed forms), ∂V/∂r_e (central difference).
+    let np = lay.nb + 3;
+    let eval = |r: f64, out: &mut [f64]| {
+        mlr.parameter_derivatives(r, &mut out[..np - 1]);
+        out[np - 1] = (up.energy_cm1(r) - down.energy_cm1(r)) / (2.0 * h);
+    };
     let probe = Probe {
         count: np,
         eval: &eval,
     };
-    let (set, ex) =
-        solve_levels_probed(&mlr, spec.mu_u, &solver_settings(v_max + 1), &probe).ok()?;
+    let mut settings = solver_settings(v_max + 1, data.solver_tolerance_cm1);
+    let (set, ex) = solve_levels_probed(&mlr, spec.mu_u, &settings, &probe).ok()?;
     if set.levels.len() <= v_max {
         return None;
     }
+    let ex1 = if data.rotation.is_empty() {
+        Vec::new()
+    } else {
+        settings.j = B_DIFFERENCE_J;
+        solve_levels_probed(&mlr, spec.mu_u, &settings, &probe)
+            .ok()?
+            .1
+    };
     let e: Vec<f64> = set.levels.iter().map(|l| l.energy_cm1).collect();
-    // Hellmann–Feynman gradient of level v in θ's layout (offset excluded).
-    let grad = |v: usize| -> Vec<f64> {
+    // A probe row in θ's layout (offset excluded).
+    let layout_of = |x: &[f64]| -> Vec<f64> {
         let mut g = vec![0.0; lay.len()];
-        g[..1 + lay.nb].copy_from_slice(&ex[v][..1 + lay.nb]);
+        g[..1 + lay.nb].copy_from_slice(&x[..1 + lay.nb]);
         if lay.tail {
-            g[1 + lay.nb] = ex[v][1 + lay.nb];
+            g[1 + lay.nb] = x[1 + lay.nb];
+        }
+        if lay.re {
+            g[lay.re_index()] = x[np - 1];
         }
         g
     };
+    let grad = |v: usize| layout_of(&ex[v]);
     let m = data.v.len();
-    let mut f = vec![0.0; m];
-    let mut jac = DMatrix::zeros(m, lay.len());
+    let mut f = vec![0.0; data.len()];
+    let mut jac = DMatrix::zeros(data.len(), lay.len());
     let off = lay.len() - 1;
     for (i, &v) in data.v.iter().enumerate() {
         let v = v as usize;
@@ -235,6 +352,18 @@ fn evaluate(spec: &DpfSpec, data: &DpfData, lay: Layout, th: &[f64]) -> Option<E
             jac[(i, off)] = 1.0;
         }
     }
+    for (i, &(v, _, _)) in data.rotation.iter().enumerate() {
+        let v = v as usize;
+        f[m + i] = set.levels[v].b_v_cm1;
+        // A level that J = 1 no longer binds keeps a zero row (its B_v still counts in χ²).
+        if let Some(x1) = ex1.get(v) {
+            let x = f64::from(B_DIFFERENCE_J * (B_DIFFERENCE_J + 1));
+            let d: Vec<f64> = x1.iter().zip(&ex[v]).map(|(a, b)| (a - b) / x).collect();
+            for (k, gk) in layout_of(&d).iter().enumerate() {
+                jac[(m + i, k)] = *gk;
+            }
+        }
+    }
     Some(Eval {
         f,
         jac,
@@ -243,11 +372,28 @@ fn evaluate(spec: &DpfSpec, data: &DpfData, lay: Layout, th: &[f64]) -> Option<E
     })
 }
 
+/// The whitened Jacobian: levels by the data's whitening, B_v by 1/σ.
+fn whitened(data: &DpfData, w: &DMatrix<f64>, jac: &DMatrix<f64>) -> DMatrix<f64> {
+    let m = data.v.len();
+    let mut out = DMatrix::zeros(jac.nrows(), jac.ncols());
+    out.rows_mut(0, m).copy_from(&(w * jac.rows(0, m)));
+    for (i, b) in data.rotation.iter().enumerate() {
+        for k in 0..jac.ncols() {
+            out[(m + i, k)] = jac[(m + i, k)] / b.2;
+        }
+    }
+    out
+}
+
 /// Whitened residuals and χ².
 fn residuals(data: &DpfData, f: &[f64]) -> (Vec<f64>, f64) {
+    let m = data.v.len();
     let d: Vec<f64> = data.y.iter().zip(f).map(|(y, f)| y - f).collect();
-    let mut r = vec![0.0; d.len()];
-    data.whitener.apply(&d, &mut r);
+    let mut r = vec![0.0; data.len()];
+    data.whitener.apply(&d, &mut r[..m]);
+    for (i, b) in data.rotation.iter().enumerate() {
+        r[m + i] = (b.1 - f[m + i]) / b.2;
+    }
     let chi2 = r.iter().map(|x| x * x).sum();
     (r, chi2)
 }
@@ -259,6 +405,7 @@ fn levenberg_marquardt(
     data: &DpfData,
     lay: Layout,
     mut th: Vec<f64>,
+    budget: usize,
 ) -> (Vec<f64>, Option<Eval>, f64, Termination, usize) {
     let w = data.whitener.matrix();
     let Some(mut cur) = evaluate(spec, data, lay, &th) else {
@@ -268,14 +415,20 @@ fn levenberg_marquardt(
     let mut evals = 1;
     let mut damping = 1e-3;
     loop {
-        let jw = &w * &cur.jac;
+        let jw = whitened(data, &w, &cur.jac);
         let a = jw.transpose() * &jw;
         let g = jw.transpose() * DVector::from_column_slice(&r);
         if g.amax() <= 1e-12 * (1.0 + chi2) {
             return (th, Some(cur), chi2, Termination::GradientConverged, evals);
         }
+        // The decrease of χ² a full Gauss–Newton step promises, gᵀA⁻¹g: when it is below the
+        // solver's own noise in χ² there is nothing left to gain.
+        let promised = a.clone().cholesky().map(|c| g.dot(&c.solve(&g)));
+        if promised.is_some_and(|p| p <= 1e-7 * chi2 + data.noise_chi2) {
+            return (th, Some(cur), chi2, Termination::ChiSquareConverged, evals);
+        }
         let mut accepted = false;
-        while evals < MAX_EVALUATIONS {
+        while evals < budget {
             let mut ad = a.clone();
             for k in 0..ad.nrows() {
                 ad[(k, k)] += damping * a[(k, k)].max(1e-12);
@@ -284,6 +437,7 @@ fn levenberg_marquardt(
                 damping *= 10.0;
                 continue;
             };
+
             let trial: Vec<f64> = th.iter().zip(step.iter()).map(|(t, s)| t + s).collect();
             evals += 1;
             match evaluate(spec, data, lay, &trial) {
@@ -293,8 +447,8 @@ fn levenberg_marquardt(
                         let small_step = step
                             .iter()
                             .zip(&th)
-                            .all(|(s, t)| s.abs() <= 1e-9 * (1.0 + t.abs()));
-                        let small_gain = chi2 - ct <= 1e-10 * chi2;
+                            .all(|(s, t)| s.abs() <= 1e-7 * (1.0 + t.abs()));
+                        let small_gain = chi2 - ct <= 1e-7 * chi2;
                         th = trial;
                         cur = e;
                         r = rt;
@@ -354,16 +508,23 @@ pub fn start(spec: &DpfSpec, we_cm1: f64, wexe_cm1: f64, top_above_min_cm1: f64)
     (de, beta0)
 }
 
-/// Fit 1 … `spec.max_beta` β terms from the start (De, β_0), each from the previous optimum, and
-/// keep the converged fit of least AICc. `Err` with the reason when none converges.
+/// Scan 1 … `spec.max_beta` β terms from the start (De, β_0), each from where the previous one
+/// ended and each with at most [`SCAN_EVALUATIONS`] solves; rank them by the AICc of the χ² they
+/// reach (an upper bound of each one's own minimum), stop after two terms that do not lower it,
+/// and fit the best to convergence. `Err` with the reason when none can be solved.
 pub fn fit(spec: &DpfSpec, data: &DpfData, de0: f64, beta0: f64) -> Result<DpfFit, String> {
     let m = data.v.len();
+    let points = data.len();
     let offset = data.kind == DataKind::Levels;
+    let fit_re = !data.rotation.is_empty();
     let mut orders = Vec::new();
     let mut best: Option<(f64, Layout, Vec<f64>, Eval, f64, Termination)> = None;
     let mut prev: Vec<f64> = vec![de0, beta0];
     if spec.fit_tail {
         prev.push(0.0);
+    }
+    if fit_re {
+        prev.push(spec.re_angstrom);
     }
     if offset {
         prev.push(0.0);
@@ -374,9 +535,10 @@ pub fn fit(spec: &DpfSpec, data: &DpfData, de0: f64, beta0: f64) -> Result<DpfFi
         let lay = Layout {
             nb,
             tail: spec.fit_tail,
+            re: fit_re,
             offset,
         };
-        if m <= lay.len() + 1 {
+        if points <= lay.len() + 1 {
             break;
         }
         // θ for nb terms: the previous optimum with β_{nb−1} = 0.
@@ -395,11 +557,17 @@ pub fn fit(spec: &DpfSpec, data: &DpfData, de0: f64, beta0: f64) -> Result<DpfFi
                 },
                 &th[..lay.len() - 1],
             ) {
-                let o = data.y.iter().zip(&e.f).map(|(y, f)| y - f).sum::<f64>() / m as f64;
+                let o = data
+                    .y
+                    .iter()
+                    .zip(&e.f[..m])
+                    .map(|(y, f)| y - f)
+                    .sum::<f64>()
+                    / m as f64;
                 *th.last_mut().unwrap_or(&mut 0.0) = o;
             }
         }
-        let (th, ev, chi2, term, n) = levenberg_marquardt(spec, data, lay, th);
+        let (th, ev, chi2, term, n) = levenberg_marquardt(spec, data, lay, th, SCAN_EVALUATIONS);
         evaluations += n;
         let Some(ev) = ev else {
             orders.push(BetaOrder {
@@ -410,17 +578,12 @@ pub fn fit(spec: &DpfSpec, data: &DpfData, de0: f64, beta0: f64) -> Result<DpfFi
             });
             break;
         };
-        let k = lay.len();
-        let aicc = (term.converged() && m > k + 1).then(|| {
-            let kf = k as f64;
-            chi2 + 2.0 * kf + 2.0 * kf * (kf + 1.0) / (m - k - 1) as f64
-        });
+        let aicc = aicc_of(chi2, lay.len(), points);
         orders.push(BetaOrder {
             terms: nb,
             chi2: Some(chi2),
             aicc,
-            refused: (!term.converged())
-                .then(|| "the fit did not converge within its iteration limit".into()),
+            refused: None,
         });
         prev = th.clone();
         if let Some(a) = aicc {
@@ -438,9 +601,35 @@ pub fn fit(spec: &DpfSpec, data: &DpfData, de0: f64, beta0: f64) -> Result<DpfFi
         }
     }
     let Some((_, lay, th, ev, chi2, term)) = best else {
-        return Err("no number of β terms gave a converged fit".into());
+        return Err("no number of β terms gave a fit that could be solved".into());
     };
+    // The chosen number of terms is fitted to convergence from where the scan left it.
+    let (th, ev, chi2, term) = if term.converged() {
+        (th, ev, chi2, term)
+    } else {
+        let (t, e, c, tm, n) = levenberg_marquardt(spec, data, lay, th, MAX_EVALUATIONS);
+        evaluations += n;
+        match e {
+            Some(e) => (t, e, c, tm),
+            None => return Err("the chosen curve could not be solved again".into()),
+        }
+    };
+    if let Some(o) = orders.iter_mut().find(|o| o.terms == lay.nb) {
+        o.chi2 = Some(chi2);
+        o.aicc = aicc_of(chi2, lay.len(), points);
+        o.refused = (!term.converged())
+            .then(|| "the fit did not converge within its iteration limit".into());
+    }
     finish(spec, data, lay, th, ev, chi2, term, orders, evaluations)
+}
+
+/// AICc = χ² + 2k + 2k(k+1)/(m − k − 1) (Hurvich & Tsai, Biometrika 76, 297 (1989), from
+/// memory), `None` when m ≤ k + 1.
+fn aicc_of(chi2: f64, k: usize, m: usize) -> Option<f64> {
+    (m > k + 1).then(|| {
+        let kf = k as f64;
+        chi2 + 2.0 * kf + 2.0 * kf * (kf + 1.0) / (m - k - 1) as f64
+    })
 }
 
 #[allow(clippy::too_many_arguments)]
@@ -456,12 +645,15 @@ fn finish(
     evaluations: usize,
 ) -> Result<DpfFit, String> {
     let w = data.whitener.matrix();
-    let jw = &w * &ev.jac;
+    let m = data.v.len();
+    let jw = whitened(data, &w, &ev.jac);
     let cov = (jw.transpose() * &jw)
         .try_inverse()
         .ok_or("the fitted parameters are not determined by the data (singular normal matrix)")?;
-    let sensitivity = &cov * jw.transpose() * &w;
-    let mlr = spec.curve(th[0], &th[1..1 + lay.nb], lay.ln_lambda(&th));
+    // ∂θ/∂y for the levels (or spacings); the B_v are held at their values in redraws.
+    let sensitivity = &cov * jw.rows(0, m).transpose() * &w;
+    let mlr = lay.curve(spec, &th);
+    let re_fitted = lay.re.then(|| th[lay.re_index()]);
     let bound_levels = solve_levels(
         &mlr,
         spec.mu_u,
@@ -477,6 +669,9 @@ fn finish(
     if lay.tail {
         names.push("ln λ (factor of the long-range coefficients)".into());
     }
+    if lay.re {
+        names.push("re".into());
+    }
     if lay.offset {
         names.push("energy of the potential minimum on the data's scale".into());
     }
@@ -487,9 +682,11 @@ fn finish(
         cov,
         sensitivity,
         chi2,
-        dof: data.v.len() - lay.len(),
+        dof: data.len() - lay.len(),
         termination,
-        calc: ev.f,
+        re_fitted,
+        b_calc: ev.f[m..].to_vec(),
+        calc: ev.f[..m].to_vec(),
         e0_cm1: ev.e0,
         e0_grad: ev.e0_grad,
         bound_levels,

@@ -188,6 +188,40 @@ impl Mlr {
     }
 }
 
+/// The MLR curve in a JSON text: either the curve itself (`{"de_cm1": …, "beta": […], …}`) or
+/// an analysis document, whose fitted potential is taken (the recommended estimate's when it is
+/// one, else the first). Checked with [`Mlr::validate`].
+pub fn curve_from_json(text: &str) -> Result<Mlr> {
+    let doc: serde_json::Value = serde_json::from_str(text)
+        .map_err(|_| Error::parameter("potential curve", "the file is not a JSON document"))?;
+    let curve = if let Some(estimates) = doc.get("estimates").and_then(|e| e.as_array()) {
+        let rec = doc.pointer("/recommended/method").and_then(|m| m.as_str());
+        let fitted = |e: &&serde_json::Value| e.pointer("/potential_fit/curve").is_some();
+        let chosen = estimates
+            .iter()
+            .filter(fitted)
+            .find(|e| e.get("method").and_then(|m| m.as_str()) == rec)
+            .or_else(|| estimates.iter().find(fitted))
+            .ok_or_else(|| {
+                Error::parameter(
+                    "potential curve",
+                    "the analysis has no fitted potential (it needs μ and r_e or a B column)",
+                )
+            })?;
+        chosen["potential_fit"]["curve"].clone()
+    } else {
+        doc
+    };
+    let m: Mlr = serde_json::from_value(curve).map_err(|_| {
+        Error::parameter(
+            "potential curve",
+            "expected a Morse/long-range curve with de_cm1, re_angstrom, p, q, r_ref_angstrom, beta and tail",
+        )
+    })?;
+    m.validate()?;
+    Ok(m)
+}
+
 impl Potential for Mlr {
     fn energy_cm1(&self, r: f64) -> f64 {
         let a = self.parts(r).a;
@@ -302,6 +336,22 @@ mod tests {
         assert!((m.damping(6, 30.0) - 1.0).abs() < 1e-12);
         assert!(m.damping(6, 0.05) < 1e-6);
         assert!(m.energy_cm1(3.0).abs() < 1e-9);
+    }
+
+    /// A curve written as JSON reads back equal, directly and from an analysis document.
+    #[test]
+    fn curves_read_back_from_json() {
+        let m = sample();
+        let text = serde_json::to_string(&m).unwrap();
+        assert_eq!(curve_from_json(&text).unwrap(), m);
+        let doc = format!(
+            r#"{{"recommended":{{"method":"x"}},"estimates":[{{"method":"y"}},{{"method":"z","potential_fit":{{"curve":{text}}}}}]}}"#
+        );
+        assert_eq!(curve_from_json(&doc).unwrap(), m);
+        let e = curve_from_json(r#"{"estimates":[]}"#)
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("no fitted potential"), "{e}");
     }
 
     /// SOURCE: common practice, no source — p must exceed the spread of the long-range powers.

@@ -239,6 +239,7 @@ impl Estimator for LeroyBernstein {
             bs: None,
             lb: Some(details),
             expansion: None,
+            potential_fit: None,
             redraw: Some(Box::new(est)),
             curve: Some(curve(points)),
             level_curve: Some(curve(lpoints)),

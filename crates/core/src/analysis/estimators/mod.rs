@@ -16,6 +16,7 @@ mod birge_sponer;
 mod expansion;
 mod leroy_bernstein;
 mod observed_sum;
+mod potential_fit;
 
 use nalgebra::DMatrix;
 
@@ -23,7 +24,9 @@ use super::prepare::Prepared;
 use crate::extrapolate::{Lin, Nominal, Redraw};
 use crate::montecarlo::McResult;
 use crate::recommend::{Family, FitEvidence};
-use crate::report::{BsDetails, Curve, ExpansionDetails, LbDetails, ValueSigma};
+use crate::report::{
+    BsDetails, Curve, ExpansionDetails, LbDetails, PotentialFitDetails, ValueSigma,
+};
 
 /// One extrapolation method (one instance per choice of its settings).
 pub(super) trait Estimator {
@@ -53,6 +56,8 @@ pub(super) struct Fitted {
     pub lb: Option<LbDetails>,
     /// Near-dissociation expansion details.
     pub expansion: Option<ExpansionDetails>,
+    /// Direct potential fit details.
+    pub potential_fit: Option<PotentialFitDetails>,
     /// Refits the estimate on a Monte Carlo draw.
     pub redraw: Option<Box<dyn Redraw>>,
     /// Its ΔG curve for the figure.
@@ -83,6 +88,7 @@ impl Fitted {
             bs: None,
             lb: None,
             expansion: None,
+            potential_fit: None,
             redraw: None,
             curve: None,
             level_curve: None,
@@ -121,6 +127,7 @@ fn registry(p: &Prepared, warnings: &mut Vec<String>) -> Vec<Box<dyn Estimator>>
     all.extend(birge_sponer::instances(p, warnings));
     all.extend(leroy_bernstein::instances(p, warnings));
     all.extend(expansion::instances(p, warnings));
+    all.extend(potential_fit::instances(p, warnings));
     all
 }
 
