@@ -174,7 +174,7 @@ pub struct BetaOrder {
 pub struct DpfFit {
     /// The fitted curve.
     pub mlr: Mlr,
-    /// Parameter values (De, β_0…, [ln λ], [offset]) and their names in words.
+    /// Parameter values (De, β_0…, then ln λ, r_e and the offset when fitted).
     pub theta: Vec<f64>,
     /// Names of the parameters.
     pub names: Vec<String>,
@@ -509,7 +509,7 @@ pub fn start(spec: &DpfSpec, we_cm1: f64, wexe_cm1: f64, top_above_min_cm1: f64)
 }
 
 /// Scan 1 … `spec.max_beta` β terms from the start (De, β_0), each from where the previous one
-/// ended and each with at most [`SCAN_EVALUATIONS`] solves; rank them by the AICc of the χ² they
+/// ended and each with a bounded number of solves; rank them by the AICc of the χ² they
 /// reach (an upper bound of each one's own minimum), stop after two terms that do not lower it,
 /// and fit the best to convergence. `Err` with the reason when none can be solved.
 pub fn fit(spec: &DpfSpec, data: &DpfData, de0: f64, beta0: f64) -> Result<DpfFit, String> {
