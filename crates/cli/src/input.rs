@@ -7,7 +7,7 @@ use std::path::Path;
 
 use clap::Args;
 use rungs_core::Error;
-use rungs_core::intake::{BandPositions, DataKind, Delimiter, IntakeOptions, Role, decode};
+use rungs_core::intake::{BandPositions, DataKind, Delimiter, IntakeOptions, Role};
 use rungs_core::session::Session;
 use rungs_core::units::Unit;
 
@@ -124,9 +124,9 @@ pub fn open_session(path: &Path, args: &ReadArgs) -> Result<(Session, &'static s
         ));
     }
     let bytes = std::fs::read(path).map_err(|e| format!("{name}: cannot read the file: {e}"))?;
-    let (text, encoding) = decode(&bytes);
     let file_name = path.file_name().map(|n| n.to_string_lossy().into_owned());
-    let mut session = Session::open(file_name, &text).map_err(|e| format!("{name}: {e}"))?;
+    let (mut session, encoding) =
+        Session::open_bytes(file_name, &bytes).map_err(|e| format!("{name}: {e}"))?;
     apply_arguments(args, &mut session.intake).map_err(|e| e.to_string())?;
     if !args.exclude.is_empty() {
         check_exclusions(&session, args)?;
