@@ -59,21 +59,24 @@ fn cells(line: &str) -> Vec<String> {
 fn a_folder_with_a_bad_file_gives_one_row_per_file_and_the_documents_numbers() {
     let dir = std::env::temp_dir().join(format!("rungs-batch-{}", std::process::id()));
     std::fs::create_dir_all(&dir).expect("dir");
-    let bad = dir.join("=bad.csv");
-    std::fs::write(&bad, "v,E (MeV)\n0,0\n1,200\n2,400\n").expect("write");
-    let summary = dir.join("summary.csv");
+    std::fs::write(dir.join("=bad.csv"), "v,E (MeV)\n0,0\n1,200\n2,400\n").expect("write");
     let levels = demo("qz2-levels.csv");
     let spacings = demo("qz2-spacings.csv");
-    let o = rungs(&[
-        "analyze",
-        &levels.to_string_lossy(),
-        &bad.to_string_lossy(),
-        &spacings.to_string_lossy(),
-        "--mc",
-        "100",
-        "--summary",
-        &summary.to_string_lossy(),
-    ]);
+    // Run in the folder, so the bad file is named as it is written, starting with '='.
+    let o = Command::new(env!("CARGO_BIN_EXE_rungs"))
+        .current_dir(&dir)
+        .args([
+            "analyze",
+            &levels.to_string_lossy(),
+            "=bad.csv",
+            &spacings.to_string_lossy(),
+            "--mc",
+            "100",
+            "--summary",
+            "summary.csv",
+        ])
+        .output()
+        .expect("run rungs");
     // A file failed: exit code 2, but only after every file is in the summary.
     assert_eq!(
         o.status.code(),
@@ -81,7 +84,7 @@ fn a_folder_with_a_bad_file_gives_one_row_per_file_and_the_documents_numbers() {
         "{}",
         String::from_utf8_lossy(&o.stderr)
     );
-    let text = std::fs::read_to_string(&summary).expect("summary written");
+    let text = std::fs::read_to_string(dir.join("summary.csv")).expect("summary written");
     let lines: Vec<&str> = text.lines().collect();
     assert_eq!(lines.len(), 4, "{text}");
     let header = cells(lines[0]);
