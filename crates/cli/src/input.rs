@@ -139,20 +139,13 @@ fn check_exclusions(session: &Session, args: &ReadArgs) -> Result<(), String> {
     let Ok(data) = session.data() else {
         return Ok(()); // the caller reports why the table cannot be read
     };
-    let lines: Vec<usize> = data.rows.iter().map(|r| r.line).collect();
     let asked = args
         .exclude
         .iter()
         .filter_map(|spec| spec.split('=').next()?.trim().parse::<usize>().ok());
     for row in asked {
-        if !lines.contains(&row) {
-            let range = match (lines.first(), lines.last()) {
-                (Some(a), Some(b)) => format!("its data rows are lines {a} to {b}"),
-                _ => "it has no data rows".to_string(),
-            };
-            return Err(format!(
-                "--exclude {row}: the table has no data row {row} ({range})"
-            ));
+        if let Some(message) = data.no_data_row(row) {
+            return Err(format!("--exclude {row}: {message}"));
         }
     }
     Ok(())
