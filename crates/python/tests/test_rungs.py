@@ -201,3 +201,25 @@ def test_the_batch_summary_is_the_clis_on_a_folder_with_a_bad_file(cli, tmp_path
     monkeypatch.chdir(folder)
     line = rungs.analyze_many(["=broken.csv"]).to_csv().splitlines()[1]
     assert line.startswith("'=broken.csv,failed,"), line
+
+
+def test_the_readmes_python_example_runs_as_written(tmp_path, monkeypatch):
+    # The example of the README's "From Python" section, run in a folder holding the files it
+    # names (copies of the SYNTHETIC demo data), as a notebook would run it.
+    from conftest import ROOT
+
+    readme = (ROOT / "README.md").read_text(encoding="utf-8")
+    section = readme.split("## From Python", 1)[1]
+    code = section.split("```python\n", 1)[1].split("```", 1)[0]
+    shutil.copy(DEMO / "qz2-levels.csv", tmp_path / "levels.csv")
+    (tmp_path / "spectra").mkdir()
+    for name in ("qz2-levels.csv", "qz2-spacings.csv"):
+        shutil.copy(DEMO / name, tmp_path / "spectra" / name)
+    (tmp_path / "spectra" / "notes.txt").write_text("not a table\n")
+    monkeypatch.chdir(tmp_path)
+    scope: dict = {}
+    exec(compile(code, "README.md", "exec"), scope)
+    assert (tmp_path / "summary.csv").read_text().count("\n") == 4
+    assert (tmp_path / "spacings.svg").read_text().lstrip().startswith("<svg")
+    assert len(scope["summary"].failed) == 1
+    assert scope["doc"]["format"] == "rungs-analysis"
