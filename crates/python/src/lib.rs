@@ -24,14 +24,14 @@ use rungs_core::units::Unit;
 use serde::Deserialize;
 
 create_exception!(
-    _rungs,
+    rungs,
     RungsError,
     PyException,
     "The input or a setting cannot be used; the message says which row, column or setting, \
      in the words the Rungs page and command line use."
 );
 create_exception!(
-    _rungs,
+    rungs,
     InternalError,
     RungsError,
     "Rungs itself failed (a bug, not a problem with your data): the call was stopped safely."

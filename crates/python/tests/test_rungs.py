@@ -118,7 +118,8 @@ def test_a_panic_arrives_as_internal_error_not_as_a_crash():
 def test_help_shows_docstrings_that_say_estimates_are_model_dependent():
     for thing in (rungs, rungs.analyze, rungs.read, rungs.analyze_many, rungs.Result):
         assert thing.__doc__ and len(thing.__doc__) > 80
-    assert "model-dependent" in rungs.__doc__ and "model-" in rungs.analyze.__doc__
+    assert "model-dependent" in rungs.__doc__ and "model-dependent" in rungs.analyze.__doc__
+    assert rungs.RungsError.__module__ == "rungs" and rungs.RungsError.__doc__
 
 
 def test_notebook_style_morse_levels_from_numpy_arrays(tmp_path):

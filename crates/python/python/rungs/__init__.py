@@ -499,8 +499,8 @@ def _settings(settings: dict[str, Any]) -> str:
 
 def analyze(data: DataSet | Source, **settings: Any) -> Result:
     """Analyses a table: vibrational constants with σ, the order selection, the dissociation
-    limit by every method and the recommended D0 ± σ_stat ± σ_model with its interval — model-
-    dependent estimates, as the document's ``statement`` says.
+    limit by every method and the recommended D0 ± σ_stat ± σ_model with its interval. Every
+    D0 is a model-dependent estimate, as the document's ``statement`` says.
 
     ``data`` is a :class:`DataSet` from :func:`read`, or anything :func:`read` accepts (read
     with the detected choices).
