@@ -105,6 +105,10 @@ def test_bad_choices_and_settings_name_what_is_wrong(cli, tmp_path):
         rungs.analyze(path, mc_samples="many")
     with pytest.raises(rungs.RungsError, match="MeV"):
         rungs.read(path, unit="MeV")
+    with pytest.raises(rungs.RungsError, match="not a column number"):
+        rungs.read(path, columns={"E": "energy"})
+    with pytest.raises(rungs.RungsError, match="role"):
+        rungs.read(path, columns={2: "nonsense"})
 
 
 def test_a_panic_arrives_as_internal_error_not_as_a_crash():

@@ -462,6 +462,10 @@ def read(
     data, name = _source_bytes(source, name)
     cols = []
     for index, spec in (columns or {}).items():
+        if isinstance(index, bool) or not isinstance(index, int) or index < 1:
+            raise RungsError(
+                f"columns: {index!r} is not a column number (1 is the first column)"
+            )
         if isinstance(spec, str):
             role, _, u = spec.partition(":")
             cols.append((int(index), role or None, u or None))
