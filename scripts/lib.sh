@@ -89,3 +89,37 @@ ensure_rust_components() {
         fi
     done
 }
+
+# The Python package's build and test tools, pinned, in a virtual environment under target/
+# (nothing is installed into the system's Python). Reinstalled only when the pins change.
+PY_ENV="$ROOT/target/pyenv"
+PY_REQUIREMENTS="maturin==1.16.0 pytest==8.4.2 numpy==2.4.6 pandas==3.1.1"
+
+ensure_python_env() {
+    if ! command -v python3 >/dev/null 2>&1; then
+        echo "python3 not found: the Python package's tests need CPython 3.11 or later" >&2
+        return 1
+    fi
+    if [ ! -x "$PY_ENV/bin/python" ]; then
+        say "creating the Python environment for the package's tests ($PY_ENV)"
+        python3 -m venv "$PY_ENV"
+    fi
+    if [ "$(cat "$PY_ENV/.rungs-requirements" 2>/dev/null)" != "$PY_REQUIREMENTS" ]; then
+        say "installing $PY_REQUIREMENTS"
+        # shellcheck disable=SC2086 # the pins are separate words
+        "$PY_ENV/bin/python" -m pip install --quiet --disable-pip-version-check $PY_REQUIREMENTS
+        printf '%s' "$PY_REQUIREMENTS" >"$PY_ENV/.rungs-requirements"
+    fi
+}
+
+# Build the Python wheel (release, abi3) with maturin and install it into the environment.
+build_python_package() {
+    ensure_python_env
+    say "building the Python package (maturin)"
+    rm -f "$ROOT"/target/wheels/rungs-*.whl
+    (cd "$ROOT/crates/python" && CARGO_TARGET_DIR="$ROOT/target/python" \
+        "$PY_ENV/bin/maturin" build --release --locked --quiet \
+        --interpreter "$PY_ENV/bin/python" --out "$ROOT/target/wheels")
+    "$PY_ENV/bin/python" -m pip install --quiet --disable-pip-version-check \
+        --force-reinstall --no-deps "$ROOT"/target/wheels/rungs-*.whl
+}

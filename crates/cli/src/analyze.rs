@@ -24,8 +24,16 @@ pub enum Format {
 /// Arguments of `rungs analyze`.
 #[derive(Debug, Args)]
 pub struct AnalyzeArgs {
-    /// Table file (levels, spacings or bands), a session document, or an exported analysis.
-    pub file: PathBuf,
+    /// Table file (levels, spacings or bands), a session document, or an exported analysis;
+    /// several files with --summary.
+    #[arg(required = true, num_args = 1.., value_name = "FILE")]
+    pub files: Vec<PathBuf>,
+    /// Analyse every file and write one summary row per file (recommended D0, its interval,
+    /// constants with σ, method, warnings; or the message of a file that failed) as CSV to
+    /// this file (`-`: standard output). The reports themselves are not printed then; exit
+    /// code 2 when a file failed, after the whole summary is written.
+    #[arg(long, value_name = "CSV")]
+    pub summary: Option<PathBuf>,
     /// How to read the table.
     #[command(flatten)]
     pub read: ReadArgs,
@@ -148,11 +156,109 @@ fn fail(message: impl std::fmt::Display) -> ExitCode {
 
 /// Runs `rungs analyze`.
 pub fn run(args: &AnalyzeArgs) -> ExitCode {
-    let (mut session, _) = match open_session(&args.file, &args.read) {
-        Ok(x) => x,
+    if let Some(path) = &args.summary {
+        return run_batch(args, path);
+    }
+    let [file] = args.files.as_slice() else {
+        return fail(format!(
+            "{} files given: several files need --summary FILE (one summary row per file)",
+            args.files.len()
+        ));
+    };
+    let report = match analyze_one(file, args) {
+        Ok(r) => r,
         Err(message) => return fail(message),
     };
-    let s = &mut session.settings;
+    if let Err(message) = write_outputs(&report, args, None) {
+        return fail(message);
+    }
+    let text = match args.format {
+        Format::Text => report.render_text(),
+        Format::Json => match report.to_json() {
+            Ok(json) => json + "\n",
+            Err(e) => {
+                crate::output::complain(&format!("rungs analyze: {e}"));
+                return ExitCode::from(1);
+            }
+        },
+    };
+    crate::output::emit(&text).map_or_else(|code| code, |()| ExitCode::SUCCESS)
+}
+
+/// `--summary`: every file analysed in turn; a file that fails becomes a row with its message.
+fn run_batch(args: &AnalyzeArgs, path: &std::path::Path) -> ExitCode {
+    use rungs_core::summary::{SummaryRow, summary_csv};
+    let several = args.files.len() > 1;
+    let mut rows = Vec::with_capacity(args.files.len());
+    let mut failed = 0usize;
+    for file in &args.files {
+        let name = file.display().to_string();
+        let outcome = analyze_one(file, args).and_then(|analysis| {
+            // With several files, each file's tables and figures go into a folder of its own.
+            let sub = several
+                .then(|| file.file_stem().map(PathBuf::from))
+                .flatten();
+            write_outputs(&analysis, args, sub.as_deref()).map(|()| analysis)
+        });
+        match outcome {
+            Ok(analysis) => rows.push(SummaryRow::of(&name, &analysis)),
+            Err(message) => {
+                failed += 1;
+                crate::output::complain(&format!("rungs analyze: {message}"));
+                rows.push(SummaryRow::failed(&name, message));
+            }
+        }
+    }
+    let csv = match summary_csv(&rows) {
+        Ok(csv) => csv,
+        Err(e) => return fail(e),
+    };
+    if path.as_os_str() == "-" {
+        if let Err(code) = crate::output::emit(&csv) {
+            return code;
+        }
+    } else if let Err(e) = std::fs::write(path, csv) {
+        return fail(format!("{}: cannot write the summary: {e}", path.display()));
+    }
+    if failed > 0 {
+        ExitCode::from(2)
+    } else {
+        ExitCode::SUCCESS
+    }
+}
+
+/// Tables and figures of one analysis, when asked for (into `DIR/sub` when `sub` is given).
+fn write_outputs(
+    report: &rungs_core::Analysis,
+    args: &AnalyzeArgs,
+    sub: Option<&std::path::Path>,
+) -> Result<(), String> {
+    let place = |dir: &std::path::Path| sub.map_or_else(|| dir.to_path_buf(), |s| dir.join(s));
+    if let Some(dir) = &args.tables {
+        let session = report
+            .session()
+            .ok_or_else(|| "the analysis has no session to list its rows".to_string())?;
+        write_tables(report, session, &place(dir))?;
+    }
+    if let Some(dir) = &args.figures {
+        write_figures(report, &place(dir), &args.figure_unit)?;
+    }
+    Ok(())
+}
+
+/// One file: read it, apply the options, analyse. The error is the message to show.
+fn analyze_one(file: &std::path::Path, args: &AnalyzeArgs) -> Result<rungs_core::Analysis, String> {
+    let (mut session, _) = open_session(file, &args.read)?;
+    apply_settings(args, &mut session.settings)?;
+    rungs_core::analyze_session(&session, &mut |_, _| {})
+        .map_err(|e| format!("{}: {e}", file.display()))
+}
+
+/// The analysis options of the command line, applied to `s`.
+fn apply_settings(
+    args: &AnalyzeArgs,
+    s: &mut rungs_core::settings::AnalysisSettings,
+) -> Result<(), String> {
     if let Some(n) = args.mc {
         s.mc_samples = n;
     }
@@ -188,7 +294,7 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
     }
     if let Some(pair) = &args.masses {
         let Some((a, b)) = pair.split_once(',') else {
-            return fail(format!(
+            return Err(format!(
                 "--masses '{pair}': write two nuclide labels, e.g. 1H,35Cl"
             ));
         };
@@ -203,7 +309,7 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
             .split_once('=')
             .and_then(|(t, ab)| ab.split_once(',').map(|(a, b)| (t, a, b)));
         let Some((tag, a, bb)) = parsed else {
-            return fail(format!(
+            return Err(format!(
                 "--isotopologue '{spec}': write TAG=A,B, e.g. DCl=2H,35Cl"
             ));
         };
@@ -223,7 +329,7 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
     if let (Some(u), Some(l)) = (&args.b_upper, &args.b_lower) {
         match (rotation(u, "--b-upper"), rotation(l, "--b-lower")) {
             (Ok(upper), Ok(lower)) => b.rotation = Some(BandRotation { upper, lower }),
-            (Err(e), _) | (_, Err(e)) => return fail(e),
+            (Err(e), _) | (_, Err(e)) => return Err(e),
         }
     }
     if let Some(h) = args.head_sigma {
@@ -235,31 +341,7 @@ pub fn run(args: &AnalyzeArgs) -> ExitCode {
     if let Some(k) = args.lower_order {
         b.lower_order = Some(k);
     }
-    let report = match rungs_core::analyze_session(&session, &mut |_, _| {}) {
-        Ok(r) => r,
-        Err(e) => return fail(format!("{}: {e}", args.file.display())),
-    };
-    if let Some(dir) = &args.tables
-        && let Err(message) = write_tables(&report, &session, dir)
-    {
-        return fail(message);
-    }
-    if let Some(dir) = &args.figures
-        && let Err(message) = write_figures(&report, dir, &args.figure_unit)
-    {
-        return fail(message);
-    }
-    let text = match args.format {
-        Format::Text => report.render_text(),
-        Format::Json => match report.to_json() {
-            Ok(json) => json + "\n",
-            Err(e) => {
-                crate::output::complain(&format!("rungs analyze: {e}"));
-                return ExitCode::from(1);
-            }
-        },
-    };
-    crate::output::emit(&text).map_or_else(|code| code, |()| ExitCode::SUCCESS)
+    Ok(())
 }
 
 /// Writes every figure of `analysis` as `DIR/<id>.svg`.

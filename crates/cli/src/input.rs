@@ -7,7 +7,7 @@ use std::path::Path;
 
 use clap::Args;
 use rungs_core::Error;
-use rungs_core::intake::{BandPositions, DataKind, Delimiter, IntakeOptions, Role, decode};
+use rungs_core::intake::{BandPositions, DataKind, Delimiter, IntakeOptions, Role};
 use rungs_core::session::Session;
 use rungs_core::units::Unit;
 
@@ -124,9 +124,9 @@ pub fn open_session(path: &Path, args: &ReadArgs) -> Result<(Session, &'static s
         ));
     }
     let bytes = std::fs::read(path).map_err(|e| format!("{name}: cannot read the file: {e}"))?;
-    let (text, encoding) = decode(&bytes);
     let file_name = path.file_name().map(|n| n.to_string_lossy().into_owned());
-    let mut session = Session::open(file_name, &text).map_err(|e| format!("{name}: {e}"))?;
+    let (mut session, encoding) =
+        Session::open_bytes(file_name, &bytes).map_err(|e| format!("{name}: {e}"))?;
     apply_arguments(args, &mut session.intake).map_err(|e| e.to_string())?;
     if !args.exclude.is_empty() {
         check_exclusions(&session, args)?;
@@ -139,20 +139,13 @@ fn check_exclusions(session: &Session, args: &ReadArgs) -> Result<(), String> {
     let Ok(data) = session.data() else {
         return Ok(()); // the caller reports why the table cannot be read
     };
-    let lines: Vec<usize> = data.rows.iter().map(|r| r.line).collect();
     let asked = args
         .exclude
         .iter()
         .filter_map(|spec| spec.split('=').next()?.trim().parse::<usize>().ok());
     for row in asked {
-        if !lines.contains(&row) {
-            let range = match (lines.first(), lines.last()) {
-                (Some(a), Some(b)) => format!("its data rows are lines {a} to {b}"),
-                _ => "it has no data rows".to_string(),
-            };
-            return Err(format!(
-                "--exclude {row}: the table has no data row {row} ({range})"
-            ));
+        if let Some(message) = data.no_data_row(row) {
+            return Err(format!("--exclude {row}: {message}"));
         }
     }
     Ok(())

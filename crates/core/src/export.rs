@@ -57,13 +57,14 @@ pub fn tables(analysis: &Analysis) -> Vec<(String, String)> {
     t
 }
 
-/// A CSV writer that turns numbers into text the same way everywhere.
-struct Sheet {
+/// A CSV writer that turns numbers into text the same way everywhere (also used by the batch
+/// summary, [`crate::summary`]).
+pub(crate) struct Sheet {
     w: csv::Writer<Vec<u8>>,
 }
 
 /// One cell.
-enum C<'a> {
+pub(crate) enum C<'a> {
     S(&'a str),
     O(String),
     F(Option<f64>),
@@ -71,14 +72,14 @@ enum C<'a> {
 }
 
 impl Sheet {
-    fn new(header: &[&str]) -> Result<Sheet> {
+    pub(crate) fn new(header: &[&str]) -> Result<Sheet> {
         let mut w = csv::Writer::from_writer(Vec::new());
         w.write_record(header.iter().map(|h| text_cell(h)))
             .map_err(csv_err)?;
         Ok(Sheet { w })
     }
 
-    fn row(&mut self, cells: &[C<'_>]) -> Result<()> {
+    pub(crate) fn row(&mut self, cells: &[C<'_>]) -> Result<()> {
         let text: Vec<String> = cells
             .iter()
             .map(|c| match c {
@@ -93,7 +94,7 @@ impl Sheet {
         self.w.write_record(&text).map_err(csv_err)
     }
 
-    fn finish(self) -> Result<String> {
+    pub(crate) fn finish(self) -> Result<String> {
         let bytes = self
             .w
             .into_inner()

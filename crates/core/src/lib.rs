@@ -39,6 +39,7 @@ pub mod session;
 pub mod settings;
 mod sorting;
 pub mod spacings;
+pub mod summary;
 pub mod units;
 pub mod value;
 pub mod words;

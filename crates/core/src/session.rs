@@ -221,6 +221,19 @@ impl Session {
         ))
     }
 
+    /// Opens the bytes of a file as [`Session::open`] does, after checking their length
+    /// against [`MAX_REPORT_BYTES`] (the longest document read) and decoding them
+    /// ([`crate::intake::decode`]: UTF-8, UTF-16 with a byte-order mark, else Latin-1).
+    /// Returns the session and the encoding found. The command line and the Python package
+    /// both read files through this.
+    pub fn open_bytes(name: Option<String>, bytes: &[u8]) -> Result<(Session, &'static str)> {
+        if bytes.len() > MAX_REPORT_BYTES {
+            return Err(too_long("the file", bytes.len(), MAX_REPORT_BYTES));
+        }
+        let (text, encoding) = crate::intake::decode(bytes);
+        Ok((Session::open(name, &text)?, encoding))
+    }
+
     /// Reads a document, checking its size first, then its schema name and version; every
     /// limit of the module documentation applies.
     pub fn from_json(text: &str) -> Result<Session> {

@@ -596,6 +596,19 @@ impl DataSet {
         self.rows.iter().filter(|r| r.is_usable())
     }
 
+    /// When `row` is not a data row of the table (asked to be excluded, say), what to tell the
+    /// user: `"the table has no data row 40 (its data rows are lines 2 to 39)"`.
+    pub fn no_data_row(&self, row: usize) -> Option<String> {
+        if self.rows.iter().any(|r| r.line == row) {
+            return None;
+        }
+        let range = match (self.rows.first(), self.rows.last()) {
+            (Some(a), Some(b)) => format!("its data rows are lines {} to {}", a.line, b.line),
+            _ => "it has no data rows".to_string(),
+        };
+        Some(format!("the table has no data row {row} ({range})"))
+    }
+
     /// Number of usable rows.
     pub fn usable_count(&self) -> usize {
         self.usable_rows().count()
