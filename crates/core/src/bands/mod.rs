@@ -1287,7 +1287,10 @@ mod tests {
         let e = analyze_bands(&ok, BandPositions::Origins, None, &bad_ref)
             .expect_err("no such reference")
             .to_string();
-        assert!(e.contains("bands.reference"), "{e}");
+        assert!(
+            e.contains("Reference isotopologue") && !e.contains("bands."),
+            "{e}"
+        );
         let mut heads = s.clone();
         heads.bands.rotation = Some(crate::settings::BandRotation {
             upper: crate::settings::StateRotation {
