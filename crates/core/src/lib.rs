@@ -35,6 +35,7 @@ pub mod potential;
 mod reading;
 pub mod recommend;
 pub mod report;
+pub mod robust;
 pub mod session;
 pub mod settings;
 mod sorting;
