@@ -382,3 +382,19 @@ test('a typo far outside the rest is named first, marked in the rows, and exclud
   clean(problems);
   await context.close();
 });
+
+test('bands left out of the joint fit are counted and named where the count is shown', async () => {
+  const { page, problems, context } = await fresh();
+  // The SYNTHETIC demo band list read alone: its invented tags name no real atoms, so the second
+  // isotopologue cannot join the joint fit. The count to expect is read from the file itself.
+  const text = readFileSync(join(ROOT, 'crates/core/data/demo/qz2-bands.csv'), 'utf8');
+  const rows = text.split('\n').filter((l) => l && !l.startsWith('#') && !l.startsWith('v_upper'));
+  const tagged = rows.filter((l) => l.trim().endsWith(',29Qz31Qz')).length;
+  await paste(page, text);
+  await analysed(page);
+  const count = await page.textContent('#global-count');
+  assert.ok(count.includes(`${rows.length - tagged} bands of ${rows.length}`), count);
+  assert.ok(count.includes(`left out: '29Qz31Qz', ${tagged} bands`), count);
+  clean(problems);
+  await context.close();
+});

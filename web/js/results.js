@@ -122,7 +122,10 @@ export class Results {
     const cons = clear($('constants'));
     if (g.upper) cons.append(el('h3', {}, 'Upper state (global fit of the band positions)'), ...this.constantsTables(g.upper, null, u, label));
     if (g.lower) cons.append(el('h3', {}, 'Lower state (global fit of the band positions)'), ...this.constantsTables(g.lower, null, u, label));
-    cons.append(el('p', {}, `Global fit: ${g.n_bands} bands, ${g.n_params} parameters, χ²/dof = ${g.chi2_reduced === null ? '—' : this.num(g.chi2_reduced, null, 4)}. ${g.uncertainty_note}`));
+    const left = g.left_out ?? [];
+    // Bands left out of the joint fit are counted and named where the count is shown.
+    const leftText = left.length ? ` of ${doc.input.n_bands} (left out: ${left.map((l) => `${l.isotopologue}, ${l.n_bands} bands — ${l.reason}`).join('; ')})` : '';
+    cons.append(el('p', { id: 'global-count' }, `Global fit: ${g.n_bands} bands${leftText}, ${g.n_params} parameters, χ²/dof = ${g.chi2_reduced === null ? '—' : this.num(g.chi2_reduced, null, 4)}. ${g.uncertainty_note}`));
     clear($('orders')).append(el('p', {}, g.order_selection.reason));
     clear($('loop')).append(el('p', { class: 'estimate-note' }, 'Potential curves are built for level lists with rotational constants B_v; open the levels of one state with a B column to close the loop.'));
     this.renderAssumptions(doc);

@@ -180,7 +180,7 @@ fn the_band_text_report_opens_with_a_summary() {
 /// source) with the energy of v = 10 typed 450 cm⁻¹ too high.
 fn typo_table() -> PathBuf {
     let dir = std::env::temp_dir().join(format!("rungs-typo-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::create_dir_all(&dir).expect("a temporary folder");
     let mut t = String::from("v,E,sigma\n");
     for v in 0..25 {
         let h = f64::from(v) + 0.5;
@@ -188,7 +188,7 @@ fn typo_table() -> PathBuf {
         t.push_str(&format!("{v},{e:.2},0.05\n"));
     }
     let path = dir.join("typo.csv");
-    std::fs::write(&path, t).unwrap();
+    std::fs::write(&path, t).expect("the table written");
     path
 }
 

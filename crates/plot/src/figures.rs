@@ -134,7 +134,10 @@ fn mark_far_points(report: &Report, id: &str, chart: &mut XyChart) {
             continue;
         };
         for p in points {
-            if let Some(f) = report.far_points.iter().find(|f| hits(p.x, f.v)) {
+            let drawn = marked.iter().any(|m: &Point| m.x == p.x && m.y == p.y);
+            if let Some(f) = report.far_points.iter().find(|f| hits(p.x, f.v))
+                && !drawn
+            {
                 let row = f.row.map(|r| format!(", row {r}")).unwrap_or_default();
                 marked.push(Point {
                     x: p.x,

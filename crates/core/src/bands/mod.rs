@@ -668,11 +668,25 @@ pub fn analyze_bands_with_progress(
             policy_name(policy)
         ),
     };
+    let left_out = groups
+        .iter()
+        .filter(|g| !g.in_joint)
+        .map(|g| LeftOut {
+            isotopologue: tag_name(&g.tag),
+            n_bands: g.input.len(),
+            reason: if g.mass_problem.is_some() {
+                "its tag cannot be read as two atoms (see the warnings)".into()
+            } else {
+                "no mass for it".into()
+            },
+        })
+        .collect();
     let global_out = GlobalFitOut {
         order_upper: gfit.k_upper,
         order_lower: gfit.k_lower,
         forced: bs.upper_order.is_some() && bs.lower_order.is_some(),
         n_bands: gbands.len(),
+        left_out,
         n_params: gfit.n_params(),
         dof: g_dof,
         chi2: gfit.lsq.chi2,
