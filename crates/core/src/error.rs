@@ -197,7 +197,7 @@ const SETTING_WORDS: &[(&str, &str)] = &[
     ("v", "v"),
 ];
 
-/// The words a user reads for a setting the code names `name` (see [`SETTING_WORDS`]).
+/// The words a user reads for a setting the code names `name` (one table in this module; a name not in it is shown as written).
 pub fn setting_in_words(name: &str) -> &str {
     SETTING_WORDS
         .iter()
