@@ -1012,3 +1012,29 @@ fn bands_left_out_of_the_joint_fit_are_counted_and_named() {
         "{line}"
     );
 }
+
+/// A single-state order forced on a band list is answered in words, not with settings paths
+/// (common practice, no source: messages in the user's terms).
+#[test]
+fn a_forced_single_state_order_on_bands_is_explained_in_words() {
+    let s = Session::new(
+        include_str!("../data/demo/qz2-bands.csv"),
+        None,
+        IntakeOptions::default(),
+        AnalysisSettings {
+            mc_samples: 0,
+            order: Some(3),
+            ..AnalysisSettings::default()
+        },
+    );
+    let Analysis::Bands(r) = analyze_session(&s, &mut |_, _| {}).unwrap() else {
+        panic!("a band report")
+    };
+    let w = r
+        .warnings
+        .iter()
+        .find(|w| w.contains("does not apply to band lists"))
+        .expect("a warning");
+    assert!(!w.contains("bands.") && !w.contains("_order"), "{w}");
+    assert!(w.contains("--upper-order"), "{w}");
+}

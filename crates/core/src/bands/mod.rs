@@ -342,7 +342,7 @@ pub fn analyze_bands_with_progress(
     let sigma_given = bands.iter().all(|b| b.sigma_cm1.is_some());
     let mut warnings: Vec<String> = Vec::new();
     if settings.order.is_some() {
-        warnings.push("the single-state order setting does not apply to band lists: use bands.upper_order and bands.lower_order".into());
+        warnings.push("the forced G(v) order does not apply to band lists: force the upper- and lower-state orders instead (--upper-order and --lower-order on the command line)".into());
     }
 
     // 1. Groups, masses, reference.
