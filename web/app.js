@@ -87,6 +87,10 @@ async function boot() {
   const data = new DataPanel(rpc, { roles: column_roles(), units: input_units() },
     ({ op, ...fields }) => run(() => rpc.call('change_reading', JSON.stringify({ [op]: fields }))).then(afterReading).catch(shown));
 
+  // One action per point far outside the rest: exclude its row with core's reason filled in.
+  results.onExclude = (row, reason) => run(() => rpc.call('change_reading', JSON.stringify({ exclude: { row, reason } })))
+    .then(afterReading).catch(shown);
+
   function renderResults() {
     if (state.report) results.render(state.report, state.unit, state.unitLabel);
   }
@@ -107,6 +111,7 @@ async function boot() {
   /** No stale numbers: results of an earlier table disappear as soon as they no longer apply. */
   function forgetResults() {
     state.report = null;
+    data.markFar([]);
     $('results').hidden = true;
     for (const id of ['export-csv', 'print-report']) $(id).disabled = true;
   }
@@ -143,6 +148,7 @@ async function boot() {
     $('progress').hidden = true;
     state.report = JSON.parse(json);
     renderResults();
+    data.markFar(state.report.far_points ?? []);
     await figures.refresh(state.unit);
     for (const id of ['export-json', 'export-csv', 'print-report']) $(id).disabled = false;
     const ms = performance.now() - t0;

@@ -259,3 +259,36 @@ test('the share-link decoder, fed 400 random and damaged fragments, only ever re
   clean(problems);
   await context.close();
 });
+
+test('settings out of range are refused at once, naming the setting as the form labels it', async () => {
+  const { page, problems, context } = await openPage(browser, served.origin);
+  await statusAfter(page, served.origin + '/');
+  await page.click('#settings-box summary');
+  // The form's own labels are the words a user knows the settings by (web/js/settings.js); the
+  // settings keys behind them never reach the status line (common practice, no source).
+  const cases = [
+    { field: 'lb_n', value: '1', words: 'LeRoy–Bernstein n' },
+    { field: 'max_order', value: '0', words: 'Highest order tried' },
+    // The worker never starts unbounded work: a sample count past the limit is refused before
+    // any draw is made (core's Monte Carlo limit), so the refusal comes within seconds.
+    { field: 'mc_samples', value: '4000000000', words: 'Monte Carlo samples' },
+  ];
+  for (const { field, value, words } of cases) {
+    await page.evaluate(() => { document.body.dataset.state = 'busy'; });
+    const t0 = Date.now();
+    await page.fill(`#settings [name=${field}]`, value);
+    await page.press(`#settings [name=${field}]`, 'Enter');
+    await page.waitForFunction(() => document.body.dataset.state === 'failed', null, { timeout: 10000 });
+    assert.ok(Date.now() - t0 < 10000, `${field}: refused in ${Date.now() - t0} ms`);
+    const text = await page.textContent('#status-text');
+    assert.ok(text.includes(words), `${field}: ${text}`);
+    assert.doesNotMatch(text, /parameter '|lb_n|max_order|mc_samples/, `${field}: ${text}`);
+    // Put the value back so the next case starts from a working analysis.
+    await page.evaluate(() => { document.body.dataset.state = 'busy'; });
+    await page.fill(`#settings [name=${field}]`, field === 'lb_n' ? '6' : field === 'max_order' ? '6' : '0');
+    await page.press(`#settings [name=${field}]`, 'Enter');
+    await page.waitForFunction(() => document.body.dataset.state === 'analysed', null, { timeout: 60000 });
+  }
+  clean(problems);
+  await context.close();
+});

@@ -342,3 +342,59 @@ test('binding energies below the asymptote: the headline is the top level\'s bin
   clean(problems);
   await context.close();
 });
+
+test('a typo far outside the rest is named first, marked in the rows, and excluded in one click with its reason', async () => {
+  const { page, problems, context } = await fresh();
+  // SYNTHETIC Morse levels G(v) = 230 (v+½) − 3 (v+½)² cm⁻¹ (closed form, common practice, no
+  // source), σ = 0.05 cm⁻¹; v = 10 (line 12) typed 450 cm⁻¹ too high.
+  let text = 'v,E,sigma\n';
+  for (let v = 0; v < 25; v += 1) {
+    const h = v + 0.5;
+    text += `${v},${(230 * h - 3 * h * h + (v === 10 ? 450 : 0)).toFixed(2)},0.05\n`;
+  }
+  await paste(page, text);
+  await analysed(page);
+  const notice = page.locator('#far-points');
+  assert.ok(await notice.isVisible(), 'a notice at the top of the results');
+  const noticeText = await notice.textContent();
+  assert.match(noticeText, /Row 12 \(v = 10\)/);
+  assert.match(noticeText, /450 cm⁻¹ above/);
+  // It comes before the headline result.
+  const first = await page.evaluate(() => document.querySelector('#results').firstElementChild.id);
+  assert.equal(first, 'far-points');
+  // The row is marked in the row table; the others are not.
+  const row = page.locator('#rows [data-line="12"]');
+  assert.match(await row.getAttribute('class'), /\bfar\b/);
+  assert.match(await row.locator('.c-why').textContent(), /far outside the rest/);
+  assert.doesNotMatch(await page.locator('#rows [data-line="11"]').getAttribute('class'), /\bfar\b/);
+  // Nothing was excluded silently: all 25 rows are used.
+  assert.match(await page.textContent('#reading'), /25 used/);
+  // One action: the button excludes row 12 with the reason core gave.
+  const reasonShown = noticeText.match(/far outside the rest: [^?]*\?/)[0];
+  await page.evaluate(() => { document.body.dataset.state = 'busy'; });
+  await page.click('#far-points button.exclude-far[data-row="12"]');
+  await analysed(page);
+  assert.match(await page.textContent('#reading'), /24 used/);
+  const excluded = page.locator('#rows [data-line="12"]');
+  assert.match(await excluded.getAttribute('class'), /\bexcluded_by_user\b/);
+  assert.equal(await excluded.locator('.c-why input').inputValue(), reasonShown);
+  assert.ok(await page.locator('#far-points').isHidden(), 'no notice once the point is out');
+  clean(problems);
+  await context.close();
+});
+
+test('bands left out of the joint fit are counted and named where the count is shown', async () => {
+  const { page, problems, context } = await fresh();
+  // The SYNTHETIC demo band list read alone: its invented tags name no real atoms, so the second
+  // isotopologue cannot join the joint fit. The count to expect is read from the file itself.
+  const text = readFileSync(join(ROOT, 'crates/core/data/demo/qz2-bands.csv'), 'utf8');
+  const rows = text.split('\n').filter((l) => l && !l.startsWith('#') && !l.startsWith('v_upper'));
+  const tagged = rows.filter((l) => l.trim().endsWith(',29Qz31Qz')).length;
+  await paste(page, text);
+  await analysed(page);
+  const count = await page.textContent('#global-count');
+  assert.ok(count.includes(`${rows.length - tagged} bands of ${rows.length}`), count);
+  assert.ok(count.includes(`left out: '29Qz31Qz', ${tagged} bands`), count);
+  clean(problems);
+  await context.close();
+});

@@ -23,6 +23,20 @@ export class DataPanel {
     this.box.addEventListener('scroll', () => this.paint());
   }
 
+  /**
+   * Mark the rows an analysis found far outside the rest ([{row, reason}]); rows in view are
+   * drawn again, the focused control keeps the focus.
+   */
+  markFar(far) {
+    this.far = new Map(far.filter((f) => f.row !== null && f.row !== undefined).map((f) => [f.row, f.reason]));
+    if (!this.windowEl) return undefined;
+    return keepFocus($('data-panel'), () => {
+      for (const [, node] of this.shown) node.remove();
+      this.shown.clear();
+      return this.paint();
+    });
+  }
+
   /** Show a new reading; the focused control (a row's switch, a column's role…) keeps the focus. */
   show(reading) {
     this.reading = reading;
@@ -143,6 +157,7 @@ export class DataPanel {
 
   rowElement(row) {
     const usable = row.status === 'usable';
+    const far = usable ? this.far?.get(row.line) : undefined;
     const byUser = row.status === 'excluded_by_user';
     const toggle = row.status === 'excluded' ? el('span', { class: 'c-use', title: 'cannot be used as read' }, '✕')
       : el('span', { class: 'c-use' }, el('input', {
@@ -154,7 +169,7 @@ export class DataPanel {
         type: 'text', value: (row.reasons[0] ?? '').replace(/^excluded by you: /, ''), 'aria-label': `Reason for excluding row ${row.line}`,
         onchange: (e) => this.onChange({ op: 'exclude', row: row.line, reason: e.target.value || 'excluded by you (no reason given)' }),
       }))
-      : el('span', { class: 'c-why', title: row.note ?? row.reasons.join('; ') }, usable ? (row.note ? `used; ${row.note}` : 'used') : row.reasons.join('; '));
+      : el('span', { class: 'c-why', title: far ?? row.note ?? row.reasons.join('; ') }, usable ? [far ? '⚠ used, but far outside the rest' : 'used', row.note].filter(Boolean).join('; ') : row.reasons.join('; '));
     const sigmaColumn = this.reading.columns.findIndex((c) => c.role === 'sigma');
     const shown = row.sigma_edited ?? (sigmaColumn >= 0 ? row.cells[sigmaColumn] : '');
     const sigma = el('span', { class: 'c-sigma' }, el('input', {
@@ -173,7 +188,7 @@ export class DataPanel {
         this.onChange({ op: 'sigma', row: row.line, sigma: t === '' ? null : x });
       },
     }));
-    return el('div', { class: `row ${row.status}${row.note ? ' assumed' : ''}`, role: 'row', 'data-line': row.line },
+    return el('div', { class: `row ${row.status}${row.note ? ' assumed' : ''}${far ? ' far' : ''}`, role: 'row', 'data-line': row.line },
       el('span', { class: 'c-line' }, row.line),
       toggle,
       this.reading.columns.map((c, i) => el('span', { class: 'c-cell' }, row.cells[i] ?? '')),

@@ -31,12 +31,35 @@ export class Results {
       this.renderBands(doc, unitToken, unitLabel);
       return;
     }
+    this.renderFar(doc.far_points ?? []);
     this.renderRecommended(doc, unitToken, unitLabel);
     clear($('estimates')).append(this.estimatesTable(doc, unitToken, unitLabel));
     clear($('constants')).append(...this.constantsTables(doc.constants, doc.morse, unitToken, unitLabel));
     this.renderOrders(doc);
     this.renderLoop(doc, unitToken, unitLabel);
     this.renderAssumptions(doc);
+  }
+
+  /**
+   * Points far outside the rest, first of all: what core found, each with one action that
+   * excludes its row with core's reason filled in (`onExclude(row, reason)`, set by the page).
+   */
+  renderFar(far) {
+    const host = clear($('far-points'));
+    host.hidden = far.length === 0;
+    if (!far.length) return;
+    host.append(el('p', {}, el('strong', {}, far.length === 1 ? 'One point lies far outside the rest. ' : `${far.length} points lie far outside the rest. `),
+      'Every result below still includes ', far.length === 1 ? 'it' : 'them', '; it is marked ⚠ in the row table and in the figures.'));
+    const list = el('ul', {});
+    for (const f of far) {
+      const where = f.row === null || f.row === undefined ? `v = ${f.v}` : `Row ${f.row} (v = ${f.v})`;
+      list.append(el('li', {}, `${where}: ${f.reason} `,
+        f.row === null || f.row === undefined ? '' : el('button', {
+          type: 'button', class: 'exclude-far', 'data-row': f.row,
+          onclick: () => this.onExclude?.(f.row, f.reason),
+        }, `Exclude row ${f.row}`)));
+    }
+    host.append(list);
   }
 
   /** The RKR potential's check against the data (or why there is none). */
@@ -99,7 +122,10 @@ export class Results {
     const cons = clear($('constants'));
     if (g.upper) cons.append(el('h3', {}, 'Upper state (global fit of the band positions)'), ...this.constantsTables(g.upper, null, u, label));
     if (g.lower) cons.append(el('h3', {}, 'Lower state (global fit of the band positions)'), ...this.constantsTables(g.lower, null, u, label));
-    cons.append(el('p', {}, `Global fit: ${g.n_bands} bands, ${g.n_params} parameters, χ²/dof = ${g.chi2_reduced === null ? '—' : this.num(g.chi2_reduced, null, 4)}. ${g.uncertainty_note}`));
+    const left = g.left_out ?? [];
+    // Bands left out of the joint fit are counted and named where the count is shown.
+    const leftText = left.length ? ` of ${doc.input.n_bands} (left out: ${left.map((l) => `${l.isotopologue}, ${l.n_bands} bands — ${l.reason}`).join('; ')})` : '';
+    cons.append(el('p', { id: 'global-count' }, `Global fit: ${g.n_bands} bands${leftText}, ${g.n_params} parameters, χ²/dof = ${g.chi2_reduced === null ? '—' : this.num(g.chi2_reduced, null, 4)}. ${g.uncertainty_note}`));
     clear($('orders')).append(el('p', {}, g.order_selection.reason));
     clear($('loop')).append(el('p', { class: 'estimate-note' }, 'Potential curves are built for level lists with rotational constants B_v; open the levels of one state with a B column to close the loop.'));
     this.renderAssumptions(doc);

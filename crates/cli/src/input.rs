@@ -64,7 +64,7 @@ pub fn apply_arguments(args: &ReadArgs, options: &mut IntakeOptions) -> Result<(
             "no" | "n" | "false" => false,
             other => {
                 return Err(Error::parameter(
-                    "header",
+                    "--header",
                     format!("'{other}': use yes or no"),
                 ));
             }
@@ -76,12 +76,15 @@ pub fn apply_arguments(args: &ReadArgs, options: &mut IntakeOptions) -> Result<(
     for spec in &args.columns {
         let (n, rest) = spec.split_once('=').ok_or_else(|| {
             Error::parameter(
-                "column",
+                "--column",
                 format!("'{spec}': write N=ROLE, N=ROLE:UNIT or N=:UNIT"),
             )
         })?;
         let index: usize = n.trim().parse().map_err(|_| {
-            Error::parameter("column", format!("'{spec}': '{n}' is not a column number"))
+            Error::parameter(
+                "--column",
+                format!("'{spec}': '{n}' is not a column number"),
+            )
         })?;
         let (role, unit) = match rest.split_once(':') {
             Some((r, u)) => (r, Some(u)),
@@ -100,7 +103,7 @@ pub fn apply_arguments(args: &ReadArgs, options: &mut IntakeOptions) -> Result<(
             .split_once('=')
             .unwrap_or((spec, "excluded on the command line"));
         let row: usize = n.trim().parse().map_err(|_| {
-            Error::parameter("exclude", format!("'{spec}': '{n}' is not a row number"))
+            Error::parameter("--exclude", format!("'{spec}': '{n}' is not a row number"))
         })?;
         options.exclude(row, reason.trim());
     }

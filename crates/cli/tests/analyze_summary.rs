@@ -175,3 +175,39 @@ fn the_band_text_report_opens_with_a_summary() {
         "{summary}"
     );
 }
+
+/// A SYNTHETIC Morse progression (ωe = 230, ωexe = 3 cm⁻¹, closed form, common practice, no
+/// source) with the energy of v = 10 typed 450 cm⁻¹ too high.
+fn typo_table() -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("rungs-typo-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("a temporary folder");
+    let mut t = String::from("v,E,sigma\n");
+    for v in 0..25 {
+        let h = f64::from(v) + 0.5;
+        let e = 230.0 * h - 3.0 * h * h + if v == 10 { 450.0 } else { 0.0 };
+        t.push_str(&format!("{v},{e:.2},0.05\n"));
+    }
+    let path = dir.join("typo.csv");
+    std::fs::write(&path, t).expect("the table written");
+    path
+}
+
+#[test]
+fn a_typo_is_named_before_the_summary_with_its_row() {
+    let path = typo_table();
+    let text = ok_text(&rungs(&["analyze", path.to_str().unwrap(), "--mc", "0"]));
+    let check = text.find("Check first").expect("a notice of the far point");
+    let summary = text.find("Summary").expect("a summary");
+    assert!(check < summary, "the notice comes first:\n{text}");
+    // v = 10 is on line 12 (header on line 1, v = 0 on line 2).
+    let line = text[check..summary]
+        .lines()
+        .find(|l| l.contains("v = 10"))
+        .unwrap_or_else(|| panic!("v = 10 named:\n{text}"));
+    assert!(
+        line.contains("row 12") && line.contains("450 cm⁻¹ above"),
+        "{line}"
+    );
+    // The demo flags nothing.
+    assert!(!ok_text(&rungs(&["analyze", &demo(), "--mc", "0"])).contains("Check first"));
+}

@@ -11,9 +11,11 @@ use std::time::{Duration, Instant};
 
 use serde_json::{Value, json};
 
-/// Words of the JSON reader and of Rust that a plain message never holds (common practice, no
-/// source: messages in the user's terms).
-const INTERNALS: [&str; 7] = [
+/// Words of the JSON reader and of Rust that a plain message never holds, and the way settings
+/// were once named by their keys ("parameter 'lb_n': …") (common practice, no source: messages
+/// in the user's terms).
+const INTERNALS: [&str; 8] = [
+    "parameter '",
     "invalid type",
     "unknown variant",
     "missing field",

@@ -9,8 +9,11 @@ use std::process::{Command, Output};
 const TABLE: &str =
     "v,E,sigma\n0,0,0.1\n1,980.3,0.3\n2,1939.8,0.2\n3,2880.2,\n4,3799.9,0.5\n5,4700.1,0.4\n";
 
-fn table_file() -> PathBuf {
-    let path = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("one_missing_sigma.csv");
+/// The table in a file of its own per test (tests run in parallel: one writing the file while
+/// another reads it made the reader see an empty table now and then).
+fn table_file(name: &str) -> PathBuf {
+    let path =
+        PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join(format!("one_missing_sigma_{name}.csv"));
     std::fs::write(&path, TABLE).expect("write the table");
     path
 }
@@ -24,7 +27,7 @@ fn rungs(args: &[&str]) -> Output {
 
 #[test]
 fn check_names_the_row_that_takes_the_median() {
-    let path = table_file();
+    let path = table_file("check");
     let o = rungs(&["check", path.to_str().unwrap()]);
     let out = String::from_utf8_lossy(&o.stdout);
     assert_eq!(
@@ -43,7 +46,7 @@ fn check_names_the_row_that_takes_the_median() {
 
 #[test]
 fn analyze_goes_on_and_says_which_row_took_the_median() {
-    let path = table_file();
+    let path = table_file("analyze");
     let o = rungs(&["analyze", path.to_str().unwrap(), "--mc", "0"]);
     let out = String::from_utf8_lossy(&o.stdout);
     assert_eq!(

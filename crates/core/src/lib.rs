@@ -35,6 +35,7 @@ pub mod potential;
 mod reading;
 pub mod recommend;
 pub mod report;
+pub mod robust;
 pub mod session;
 pub mod settings;
 mod sorting;
@@ -46,7 +47,7 @@ pub mod words;
 
 pub use analysis::{analyze_levels, analyze_spacings};
 pub use bands::{BandReport, analyze_bands, render_band_text};
-pub use error::{Error, Result};
+pub use error::{Error, Result, setting_in_words};
 pub use pipeline::{Analysis, analyze_session};
 pub use report::{Report, render_text};
 

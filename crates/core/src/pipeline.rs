@@ -10,7 +10,7 @@
 use crate::Result;
 use crate::analysis::{analyze_levels_with_progress, analyze_spacings_with_progress};
 use crate::bands::analyze_bands_with_progress;
-use crate::intake::{BandPositions, DataKind, DataSet, RowStatus};
+use crate::intake::{BandPositions, DataKind, DataSet, Observation, RowStatus};
 use crate::masses::reduced_mass_of;
 use crate::report::{ExcludedRow, Report, RowsSummary};
 use crate::session::Session;
@@ -98,6 +98,20 @@ fn row_notes_warning(data: &DataSet) -> Option<String> {
     Some(format!("{what} {lines}: {note}"))
 }
 
+/// The input row of each point far outside the rest, so a user can exclude it by its row.
+fn far_point_rows(report: &mut Report, data: &DataSet) {
+    for f in &mut report.far_points {
+        f.row = data
+            .usable_rows()
+            .find(|r| match &r.observation {
+                Some(Observation::Level(l)) => f64::from(l.v) == f.v,
+                Some(Observation::Spacing(s)) => f64::from(s.v_lower) == f.v,
+                _ => false,
+            })
+            .map(|r| r.line);
+    }
+}
+
 /// Analyse a session: read its table, resolve the mass, run the analysis for its kind of data.
 ///
 /// `progress(done, total)` is called as the Monte Carlo draws advance.
@@ -111,6 +125,7 @@ pub fn analyze_session(
     let settings = &session.settings;
     let single = |mut report: Report| {
         report.rows = Some(rows_summary(&data));
+        far_point_rows(&mut report, &data);
         report.session = Some(session.clone());
         Analysis::Levels(Box::new(report))
     };

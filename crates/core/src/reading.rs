@@ -406,12 +406,9 @@ fn explain_data(what: &str, keys: &[Step], raw: &str) -> String {
             rest.trim_end_matches('`')
         );
     }
-    // A check of the value itself (a unit, a mass): its message is already in plain words.
-    let own = raw
-        .strip_prefix("parameter '")
-        .and_then(|r| r.split_once("': "))
-        .map_or(raw, |(_, m)| m);
-    format!("{what}: {where_}{meaning}: {own}")
+    // A check of the value itself (a unit, a mass): its message is already in plain words, and
+    // names no setting (the place above does).
+    format!("{what}: {where_}{meaning}: {raw}")
 }
 
 #[cfg(test)]

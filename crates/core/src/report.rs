@@ -558,6 +558,10 @@ pub struct Report {
     pub monte_carlo: McInfo,
     /// Warnings.
     pub warnings: Vec<String>,
+    /// Points a robust fit puts far outside the rest ([`crate::robust`]), each with the reason an
+    /// exclusion would carry. Shown first; the analysis never excludes them itself.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub far_points: Vec<FarPointOut>,
     /// Plot series.
     pub plot: PlotData,
     /// The potential curve of the closed loop, its levels, and the observed − calculated check
@@ -584,6 +588,21 @@ pub struct Report {
     /// when the analysis started from a session, so the document can be re-imported.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub session: Option<crate::session::Session>,
+}
+
+/// A point far outside the rest (see [`crate::robust::far_points`]).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FarPointOut {
+    /// Level v (levels) or lower level of the spacing (spacings).
+    pub v: f64,
+    /// The input row it came from (from [`crate::pipeline`]; `None` when analysed without rows).
+    pub row: Option<usize>,
+    /// Observed − robust fit, cm⁻¹.
+    pub residual_cm1: f64,
+    /// |observed − robust fit| in robust standard deviations of the other points.
+    pub ratio: f64,
+    /// The reason an exclusion of this point would carry, in words.
+    pub reason: String,
 }
 
 /// What happened to the rows of the input table.
@@ -736,6 +755,32 @@ fn render_expansion(s: &mut String, x: &ExpansionDetails) {
     let _ = writeln!(s, "      orders tried: {}", tried.join("; "));
 }
 
+/// The points far outside the rest, before anything else: every number below includes them.
+fn far_points_text(s: &mut String, far: &[FarPointOut]) {
+    use std::fmt::Write;
+    if far.is_empty() {
+        return;
+    }
+    let _ = writeln!(
+        s,
+        "Check first: {} far outside the rest (every result below still includes {})",
+        if far.len() == 1 {
+            "one point lies"
+        } else {
+            "points lie"
+        },
+        if far.len() == 1 { "it" } else { "them" }
+    );
+    for f in far {
+        let row = f
+            .row
+            .map(|r| format!(" (row {r}; exclude row {r} to leave it out)"))
+            .unwrap_or_default();
+        let _ = writeln!(s, "  v = {}{row}: {}", f.v, f.reason);
+    }
+    let _ = writeln!(s);
+}
+
 /// The answer first: recommended D0 with its interval, De, ωe, ωexe, order, warning count.
 fn text_summary(s: &mut String, r: &Report) {
     use std::fmt::Write;
@@ -744,6 +789,7 @@ fn text_summary(s: &mut String, r: &Report) {
     {
         use crate::format::{pm as pm_sig, value_sigma};
         let rec = &r.recommended;
+        far_points_text(s, &r.far_points);
         let _ = writeln!(s, "Summary");
         match (rec.d0_cm1, &rec.method) {
             (Some(d0), Some(m)) => {

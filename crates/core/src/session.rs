@@ -442,6 +442,8 @@ mod tests {
         }
         let mut s2 = s.clone();
         s2.settings.lb_n = f64::NAN;
-        assert!(s2.to_json().expect_err("nan").to_string().contains("lb_n"));
+        // Named as the page labels the setting (common practice, no source).
+        let e = s2.to_json().expect_err("nan").to_string();
+        assert!(e.starts_with("LeRoy–Bernstein n: "), "{e}");
     }
 }

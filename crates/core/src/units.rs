@@ -326,10 +326,11 @@ impl From<Unit> for String {
     }
 }
 
+/// Read from documents: the message alone, since the document reader names the key itself.
 impl TryFrom<String> for Unit {
-    type Error = Error;
-    fn try_from(s: String) -> Result<Unit> {
-        Unit::parse(&s)
+    type Error = String;
+    fn try_from(s: String) -> std::result::Result<Unit, String> {
+        Unit::parse(&s).map_err(|e| e.detail())
     }
 }
 

@@ -971,3 +971,70 @@ mod property {
         }
     }
 }
+
+/// Bands left out of the joint fit are counted and named where the count is shown: the demo band
+/// list read without the isotopologue atoms (its invented tags name no real nuclides).
+#[test]
+fn bands_left_out_of_the_joint_fit_are_counted_and_named() {
+    let text = include_str!("../data/demo/qz2-bands.csv");
+    // The count to expect, read from the file itself: rows tagged 29Qz31Qz.
+    let tagged = text
+        .lines()
+        .filter(|l| !l.starts_with('#') && l.trim_end().ends_with(",29Qz31Qz"))
+        .count();
+    assert!(tagged > 0);
+    let s = Session::new(
+        text,
+        None,
+        IntakeOptions::default(),
+        AnalysisSettings {
+            mc_samples: 0,
+            ..AnalysisSettings::default()
+        },
+    );
+    let Analysis::Bands(r) = analyze_session(&s, &mut |_, _| {}).unwrap() else {
+        panic!("a band report")
+    };
+    let g = &r.global_fit;
+    assert_eq!(g.left_out.len(), 1, "{:?}", g.left_out);
+    assert_eq!(g.left_out[0].isotopologue, "'29Qz31Qz'");
+    assert_eq!(g.left_out[0].n_bands, tagged);
+    assert_eq!(g.n_bands + tagged, r.input.n_bands);
+    assert!(g.left_out[0].reason.contains("two atoms"));
+    let line = render_band_text(&r)
+        .lines()
+        .find(|l| l.starts_with("Global fit"))
+        .unwrap()
+        .to_string();
+    assert!(
+        line.contains(&format!("{} bands of {}", g.n_bands, r.input.n_bands))
+            && line.contains(&format!("'29Qz31Qz', {tagged} bands")),
+        "{line}"
+    );
+}
+
+/// A single-state order forced on a band list is answered in words, not with settings paths
+/// (common practice, no source: messages in the user's terms).
+#[test]
+fn a_forced_single_state_order_on_bands_is_explained_in_words() {
+    let s = Session::new(
+        include_str!("../data/demo/qz2-bands.csv"),
+        None,
+        IntakeOptions::default(),
+        AnalysisSettings {
+            mc_samples: 0,
+            order: Some(3),
+            ..AnalysisSettings::default()
+        },
+    );
+    let Analysis::Bands(r) = analyze_session(&s, &mut |_, _| {}).unwrap() else {
+        panic!("a band report")
+    };
+    let w = r
+        .warnings
+        .iter()
+        .find(|w| w.contains("does not apply to band lists"))
+        .expect("a warning");
+    assert!(!w.contains("bands.") && !w.contains("_order"), "{w}");
+    assert!(w.contains("--upper-order"), "{w}");
+}

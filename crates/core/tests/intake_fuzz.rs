@@ -6,6 +6,9 @@
 //! finite, within the plausible ranges and with σ > 0; every input line with content is a data
 //! row, the header, a comment, part of a multi-line quoted cell, or a reported title line; the
 //! resolved options read the text back to the same rows.
+//!
+//! Bounded in `scripts/test` at 3000 cases per property; more on demand:
+//! `PROPTEST_CASES=100000 cargo test -p rungs-core --test intake_fuzz`.
 
 use std::collections::BTreeSet;
 
@@ -257,8 +260,16 @@ fn apply(text: &str, m: &Mutation) -> String {
     }
 }
 
+/// Cases per property: 3000, or `PROPTEST_CASES` when set (a longer run on demand).
+fn cases() -> u32 {
+    std::env::var("PROPTEST_CASES")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(3000)
+}
+
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 3000, failure_persistence: None, ..ProptestConfig::default() })]
+    #![proptest_config(ProptestConfig { cases: cases(), failure_persistence: None, ..ProptestConfig::default() })]
 
     /// Arbitrary Unicode text.
     #[test]

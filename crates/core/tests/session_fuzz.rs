@@ -10,7 +10,8 @@ use rungs_core::session::Session;
 use rungs_core::settings::AnalysisSettings;
 
 /// Words of the JSON reader and of Rust that a message never holds (common practice, no source).
-const INTERNALS: [&str; 7] = [
+const INTERNALS: [&str; 8] = [
+    "parameter '",
     "invalid type",
     "unknown variant",
     "missing field",

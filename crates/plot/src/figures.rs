@@ -87,6 +87,13 @@ fn synthetic_note(report: &Report) -> &'static str {
 
 /// Build figure `id` (one of [`FIGURES`]) for `report` in energy unit `scale`.
 pub fn figure(report: &Report, id: &str, scale: EnergyScale) -> Option<XyChart> {
+    let mut chart = plain_figure(report, id, scale)?;
+    mark_far_points(report, id, &mut chart);
+    Some(chart)
+}
+
+/// The figure without the marks of points far outside the rest.
+fn plain_figure(report: &Report, id: &str, scale: EnergyScale) -> Option<XyChart> {
     match id {
         "spacings" => Some(spacings(report, scale)),
         "residuals" => Some(residuals(report, scale)),
@@ -96,6 +103,61 @@ pub fn figure(report: &Report, id: &str, scale: EnergyScale) -> Option<XyChart> 
         "potential" => potential(report, scale),
         "loop" => loop_check(report, scale),
         _ => None,
+    }
+}
+
+/// Legend text of the marks of points far outside the rest.
+pub const FAR_LABEL: &str = "⚠ far outside the rest";
+
+/// Every data point that involves a point far outside the rest ([`Report::far_points`]) drawn
+/// again on top as a square in the warning colour, with its row in the read-out. A spacing
+/// involves both of its levels; in the figures against x = v + ½ a level v is the spacings at
+/// v − ½ and v + ½. Figures without data points at v (the ladder, the potential) are left alone.
+fn mark_far_points(report: &Report, id: &str, chart: &mut XyChart) {
+    if report.far_points.is_empty() {
+        return;
+    }
+    let half_integer = matches!(id, "spacings" | "near-limit");
+    let given_spacings = report.input.kind == rungs_core::dunham::DataKind::Spacings;
+    let hits = |x: f64, v: f64| {
+        if !half_integer {
+            x == v
+        } else if given_spacings {
+            x == v + 0.5
+        } else {
+            x == v + 0.5 || x == v - 0.5
+        }
+    };
+    let mut marked = Vec::new();
+    for layer in &chart.layers {
+        let Mark::Points { points, .. } = &layer.mark else {
+            continue;
+        };
+        for p in points {
+            let drawn = marked.iter().any(|m: &Point| m.x == p.x && m.y == p.y);
+            if let Some(f) = report.far_points.iter().find(|f| hits(p.x, f.v))
+                && !drawn
+            {
+                let row = f.row.map(|r| format!(", row {r}")).unwrap_or_default();
+                marked.push(Point {
+                    x: p.x,
+                    y: p.y,
+                    y_err: None,
+                    included: true,
+                    tag: format!("v = {}{row}: far outside the rest — check it", f.v),
+                });
+            }
+        }
+    }
+    if !marked.is_empty() {
+        chart.layers.push(Layer {
+            label: FAR_LABEL.into(),
+            colour: 2,
+            mark: Mark::Points {
+                points: marked,
+                shape: Shape::Square,
+            },
+        });
     }
 }
 
@@ -802,4 +864,76 @@ pub fn loop_check(report: &Report, scale: EnergyScale) -> Option<XyChart> {
         legend: Legend::UpperRight,
         x_ticks: true,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rungs_core::intake::IntakeOptions;
+    use rungs_core::settings::AnalysisSettings;
+
+    /// The report of SYNTHETIC Morse levels (ωe = 230, ωexe = 3 cm⁻¹, closed form, common
+    /// practice, no source) with v = 10 typed 450 cm⁻¹ too high.
+    fn typo_report() -> Report {
+        let mut t = String::from("v,E,sigma\n");
+        for v in 0..25 {
+            let h = f64::from(v) + 0.5;
+            let e = 230.0 * h - 3.0 * h * h + if v == 10 { 450.0 } else { 0.0 };
+            t.push_str(&format!("{v},{e:.2},0.05\n"));
+        }
+        let settings = AnalysisSettings {
+            mc_samples: 0,
+            ..AnalysisSettings::default()
+        };
+        let s = Session::new(t, None, IntakeOptions::default(), settings);
+        match rungs_core::analyze_session(&s, &mut |_, _| {}) {
+            Ok(Analysis::Levels(r)) => *r,
+            other => panic!("a levels report expected, got {other:?}"),
+        }
+    }
+
+    fn far_xs(chart: &XyChart) -> Vec<f64> {
+        chart
+            .layers
+            .iter()
+            .filter(|l| l.label == FAR_LABEL)
+            .flat_map(|l| match &l.mark {
+                Mark::Points { points, .. } => points.iter().map(|p| p.x).collect(),
+                _ => Vec::new(),
+            })
+            .collect()
+    }
+
+    #[test]
+    fn the_far_point_is_marked_in_every_figure_with_data_at_v() {
+        let r = typo_report();
+        assert_eq!(r.far_points.len(), 1);
+        let scale = EnergyScale::of(Unit::Cm1).unwrap();
+        // A level enters the spacings below and above it (ΔG at x = v ± ½).
+        let spacings = figure(&r, "spacings", scale).unwrap();
+        assert_eq!(far_xs(&spacings), vec![9.5, 10.5]);
+        for id in ["residuals", "levels", "loop"] {
+            if let Some(chart) = figure(&r, id, scale) {
+                assert_eq!(far_xs(&chart), vec![10.0], "{id}");
+            }
+        }
+        // The demo has no such point and no such layer.
+        let clean = rungs_core::analyze_session(
+            &Session::new(
+                include_str!("../../core/data/demo/qz2-levels.csv"),
+                None,
+                IntakeOptions::default(),
+                AnalysisSettings {
+                    mc_samples: 0,
+                    ..AnalysisSettings::default()
+                },
+            ),
+            &mut |_, _| {},
+        )
+        .unwrap();
+        let Analysis::Levels(clean) = clean else {
+            panic!("levels")
+        };
+        assert!(far_xs(&figure(&clean, "spacings", scale).unwrap()).is_empty());
+    }
 }

@@ -242,6 +242,40 @@ fn residuals(p: &Prepared, warnings: &mut Vec<String>) -> Vec<ResidualOut> {
     out
 }
 
+/// The points of the data (levels or spacings, as given) far outside what their neighbours
+/// predict ([`crate::robust`]), whatever order the least-squares selection chose (a gross error
+/// can drive that choice).
+fn far_points(p: &Prepared) -> Vec<FarPointOut> {
+    let data = &p.data;
+    let sigma: Option<Vec<f64>> = data
+        .sigma_known
+        .then(|| (0..p.n()).map(|i| data.cov[(i, i)].sqrt()).collect());
+    let what = match data.kind {
+        DataKind::Levels => "level",
+        DataKind::Spacings => "spacing",
+    };
+    crate::robust::far_points(&data.v, &data.y, sigma.as_deref())
+        .into_iter()
+        .map(|f| FarPointOut {
+            v: data.v[f.index],
+            row: None,
+            residual_cm1: f.residual,
+            ratio: f.ratio,
+            reason: format!(
+                "far outside the rest: this {what} lies {} cm⁻¹ {} what its neighbours predict \
+                 ({} the typical difference); a typo or a wrong assignment?",
+                crate::format::significant(f.residual.abs(), 3),
+                if f.residual > 0.0 { "above" } else { "below" },
+                if f.ratio >= 1000.0 {
+                    "more than 1000 times".to_string()
+                } else {
+                    format!("about {} times", crate::format::significant(f.ratio, 2))
+                }
+            ),
+        })
+        .collect()
+}
+
 /// The levels (given or rebuilt from spacings) and the spacings (given or derived) with σ.
 fn levels_and_spacings(p: &Prepared) -> (Vec<LevelOut>, Vec<SpacingOut>) {
     let data = &p.data;
@@ -414,6 +448,7 @@ pub(super) fn report(p: Prepared, o: Outcome, bv: &[(f64, f64)]) -> Report {
     let constants = constants(&p);
     let (morse, morse_note) = morse(&p, bv);
     let residuals = residuals(&p, &mut warnings);
+    let far_points = far_points(&p);
     let (levels, spacings) = levels_and_spacings(&p);
     let plot = plot(&p, curves, &levels, &spacings, &residuals);
     let settings = p.settings;
@@ -469,6 +504,7 @@ pub(super) fn report(p: Prepared, o: Outcome, bv: &[(f64, f64)]) -> Report {
             note: mc_note,
         },
         warnings,
+        far_points,
         plot,
         potential: None,
         potential_comparison: None,

@@ -101,8 +101,8 @@ fn tag_error(tag: &str, why: &str) -> Error {
         "isotopologue",
         format!(
             "tag '{}' {why}: write two nuclide labels such as 1H-35Cl, 2H-35Cl, 35Cl-37Cl or \
-             35Cl2, or list the tag with its two atoms in the settings (bands.isotopologues; \
-             on the command line --isotopologue TAG=A,B)",
+             35Cl2, or list the tag with its two atoms (the setting \"Isotopologue atoms\" on the \
+             page; on the command line --isotopologue TAG=A,B)",
             tag.trim()
         ),
     )
@@ -217,7 +217,11 @@ mod tests {
         assert_eq!(pair("127I2"), ("127I".into(), "127I".into()));
         for bad in ["", "main", "HCl", "Qz2", "29Qz-31Qz", "35"] {
             let e = parse_tag(bad).expect_err(bad).to_string();
-            assert!(e.contains("bands.isotopologues"), "{bad}: {e}");
+            // The setting is named as the page labels it (common practice, no source).
+            assert!(
+                e.contains("Isotopologue atoms") && !e.contains("bands."),
+                "{bad}: {e}"
+            );
         }
     }
 

@@ -342,7 +342,7 @@ pub fn analyze_bands_with_progress(
     let sigma_given = bands.iter().all(|b| b.sigma_cm1.is_some());
     let mut warnings: Vec<String> = Vec::new();
     if settings.order.is_some() {
-        warnings.push("the single-state order setting does not apply to band lists: use bands.upper_order and bands.lower_order".into());
+        warnings.push("the forced G(v) order does not apply to band lists: force the upper- and lower-state orders instead (--upper-order and --lower-order on the command line)".into());
     }
 
     // 1. Groups, masses, reference.
@@ -668,11 +668,25 @@ pub fn analyze_bands_with_progress(
             policy_name(policy)
         ),
     };
+    let left_out = groups
+        .iter()
+        .filter(|g| !g.in_joint)
+        .map(|g| LeftOut {
+            isotopologue: tag_name(&g.tag),
+            n_bands: g.input.len(),
+            reason: if g.mass_problem.is_some() {
+                "its tag cannot be read as two atoms (see the warnings)".into()
+            } else {
+                "no mass for it".into()
+            },
+        })
+        .collect();
     let global_out = GlobalFitOut {
         order_upper: gfit.k_upper,
         order_lower: gfit.k_lower,
         forced: bs.upper_order.is_some() && bs.lower_order.is_some(),
         n_bands: gbands.len(),
+        left_out,
         n_params: gfit.n_params(),
         dof: g_dof,
         chi2: gfit.lsq.chi2,
@@ -1287,7 +1301,10 @@ mod tests {
         let e = analyze_bands(&ok, BandPositions::Origins, None, &bad_ref)
             .expect_err("no such reference")
             .to_string();
-        assert!(e.contains("bands.reference"), "{e}");
+        assert!(
+            e.contains("Reference isotopologue") && !e.contains("bands."),
+            "{e}"
+        );
         let mut heads = s.clone();
         heads.bands.rotation = Some(crate::settings::BandRotation {
             upper: crate::settings::StateRotation {

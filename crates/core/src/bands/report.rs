@@ -79,6 +79,9 @@ pub struct GlobalFitOut {
     pub forced: bool,
     /// Bands fitted.
     pub n_bands: usize,
+    /// Bands of the list left out of this fit, by isotopologue, with why (absent when none).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub left_out: Vec<LeftOut>,
     /// Parameters.
     pub n_params: usize,
     /// Degrees of freedom.
@@ -511,6 +514,27 @@ fn render_band_summary(s: &mut String, r: &BandReport) {
     let _ = writeln!(s);
 }
 
+/// Bands of one isotopologue that a fit left out.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LeftOut {
+    /// The isotopologue's tag as written.
+    pub isotopologue: String,
+    /// Bands left out.
+    pub n_bands: usize,
+    /// Why, in words.
+    pub reason: String,
+}
+
+/// The bands a fit left out, in words for a count: "38 left out: 29Qz31Qz, 38 bands — why".
+pub fn left_out_words(left_out: &[LeftOut]) -> String {
+    let n: usize = left_out.iter().map(|l| l.n_bands).sum();
+    let each: Vec<String> = left_out
+        .iter()
+        .map(|l| format!("{}, {} bands — {}", l.isotopologue, l.n_bands, l.reason))
+        .collect();
+    format!("{n} left out: {}", each.join("; "))
+}
+
 /// Renders a band analysis as readable plain text (both states' single-state reports included).
 pub fn render_band_text(r: &BandReport) -> String {
     use std::fmt::Write;
@@ -598,7 +622,7 @@ pub fn render_band_text(r: &BandReport) -> String {
     let g = &r.global_fit;
     let _ = writeln!(
         s,
-        "Global fit ν = T00 + [G′(v′) − G′(0)] − [G″(v″) − G″(0)]{}: orders ({}, {}), {} bands, χ²_ν = {}",
+        "Global fit ν = T00 + [G′(v′) − G′(0)] − [G″(v″) − G″(0)]{}: orders ({}, {}), {} bands{}, χ²_ν = {}",
         if r.isotopologues.iter().filter(|i| i.in_joint_fit).count() > 1 {
             " with mass-scaled constants"
         } else {
@@ -607,6 +631,11 @@ pub fn render_band_text(r: &BandReport) -> String {
         g.order_upper,
         g.order_lower,
         g.n_bands,
+        if g.left_out.is_empty() {
+            String::new()
+        } else {
+            format!(" of {} ({})", r.input.n_bands, left_out_words(&g.left_out))
+        },
         opt(g.chi2_reduced, 3)
     );
     let _ = writeln!(s, "  order choice: {}", g.order_selection.reason);
