@@ -251,7 +251,7 @@ pub(crate) fn check_settings(s: &AnalysisSettings, mu_u: Option<f64>) -> Result<
         && !(re.is_finite() && (0.1..=100.0).contains(&re))
     {
         return Err(Error::parameter(
-            "equilibrium distance r_e",
+            "equilibrium distance",
             "must be a distance between 0.1 and 100 Å",
         ));
     }

@@ -355,7 +355,7 @@ fn evaluate(spec: &DpfSpec, data: &DpfData, lay: Layout, th: &[f64]) -> Option<E
     for (i, &(v, _, _)) in data.rotation.iter().enumerate() {
         let v = v as usize;
         f[m + i] = set.levels[v].b_v_cm1;
-        // A level that J = 1 no longer binds keeps a zero row (its B_v still counts in χ²).
+        // A level that the second J no longer binds keeps a zero row (its B_v still counts in χ²).
         if let Some(x1) = ex1.get(v) {
             let x = f64::from(B_DIFFERENCE_J * (B_DIFFERENCE_J + 1));
             let d: Vec<f64> = x1.iter().zip(&ex[v]).map(|(a, b)| (a - b) / x).collect();

@@ -2,8 +2,9 @@
 //! (or spacings) by solving the radial Schrödinger equation in it ([`crate::potential::dpf`]);
 //! D0 = De − E(v = 0) of the fitted curve.
 //!
-//! re is held fixed (levels alone do not fix the position of the well): the user's value, or
-//! √(C_u/(μ B_e)) with B_e extrapolated from the lowest given B_v. The tail is C_n/rⁿ with n the
+//! Levels alone do not fix the position of the well: r_e is the user's value, held fixed, or is
+//! fitted with the given B_v (from a start √(C_u/(μ B_e)), B_e extrapolated from the lowest B_v);
+//! without either the estimate is listed with that reason and no value. The tail is C_n/rⁿ with n the
 //! long-range exponent of the analysis; C_n is held at a given theoretical value, or fitted (as a
 //! factor on a start that puts β∞ = 1). σ and Monte Carlo draws use the fit's sensitivity to the
 //! data: a draw is the first-order (Gauss–Newton) refit, exact to first order in the data errors.
@@ -28,9 +29,9 @@ pub(super) struct PotentialFit {
     mu_u: f64,
 }
 
-/// One instance when the fit is switched on, a mass is known, n is a whole number and re is known
-/// (given, or from B_v); otherwise none, with the reason in a warning when the user can act on it.
-pub(super) fn instances(p: &Prepared, warnings: &mut Vec<String>) -> Vec<Box<dyn Estimator>> {
+/// One instance when the fit is switched on, a mass is known and n is a whole number; without
+/// r_e or B_v it gives no value and says what it needs.
+pub(super) fn instances(p: &Prepared, _warnings: &mut Vec<String>) -> Vec<Box<dyn Estimator>> {
     let s = p.settings;
     if !s.potential_fit {
         return Vec::new();
@@ -52,10 +53,7 @@ pub(super) fn instances(p: &Prepared, warnings: &mut Vec<String>) -> Vec<Box<dyn
         )),
         _ => None,
     };
-    let Some((re_angstrom, re_source)) = re else {
-        warnings.push("no potential curve was fitted to the levels: give the equilibrium distance r_e, or rotational constants B_v, to fix the position of the well".into());
-        return Vec::new();
-    };
+    let (re_angstrom, re_source) = re.unwrap_or((f64::NAN, String::new()));
     vec![Box::new(PotentialFit {
         n: n as u32,
         cn_given: s.lb_cn_cm1_an,
@@ -89,8 +87,8 @@ impl Estimator for PotentialFit {
     }
 
     fn assumption(&self, _p: &Prepared) -> Option<String> {
-        Some(format!(
-            "the direct potential fit assumes the levels are those of one Morse/long-range curve whose outer wall becomes De − C_n/rⁿ with n = {}, its exponent a polynomial in a radial variable, with re held fixed ({})",
+        self.re_angstrom.is_finite().then(|| format!(
+            "the direct potential fit assumes the levels are those of one Morse/long-range curve whose outer wall becomes De − C_n/rⁿ with n = {}, its exponent a polynomial in a radial variable; {}",
             self.n, self.re_source
         ))
     }
@@ -104,6 +102,9 @@ impl Estimator for PotentialFit {
             prescaled: true,
             ..Fitted::no_limit(reason)
         };
+        if !self.re_angstrom.is_finite() {
+            return failed("a potential curve needs the equilibrium distance r_e or rotational constants B_v (a B column) to fix the position of the well: vibrational levels alone fix only its width".into());
+        }
         let Some(whitener) = Whitener::from_cov(&p.data.cov) else {
             return failed("the data covariance is not positive definite".into());
         };
