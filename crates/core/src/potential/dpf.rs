@@ -434,7 +434,12 @@ fn levenberg_marquardt(
                 ad[(k, k)] += damping * a[(k, k)].max(1e-12);
             }
             let Some(step) = ad.cholesky().map(|c| c.solve(&g)) else {
+                // A normal matrix that no damping makes positive definite (non-finite entries)
+                // ends the run instead of raising the damping for ever.
                 damping *= 10.0;
+                if damping > 1e12 {
+                    return (th, Some(cur), chi2, Termination::NoProgress, evals);
+                }
                 continue;
             };
 
