@@ -36,6 +36,9 @@ const SCAN_EVALUATIONS: usize = 400;
 /// discretisation, small enough that centrifugal distortion (a relative 4B²J(J+1)/ωe², about
 /// 10⁻⁴ for typical constants) does not matter.
 const B_DIFFERENCE_J: u32 = 10;
+/// Most evaluations of the whole scan: beyond it no further β term is tried (bounded work on any
+/// input).
+const MAX_SCAN_TOTAL: usize = 1200;
 /// Most evaluations of the final fit of the chosen number of terms before it stops as not
 /// converged.
 const MAX_EVALUATIONS: usize = 400;
@@ -600,8 +603,9 @@ pub fn fit(spec: &DpfSpec, data: &DpfData, de0: f64, beta0: f64) -> Result<DpfFi
                 }
             }
         }
-        // Two more terms that do not lower AICc end the search; so does an exact fit.
-        if worse >= 2 || chi2 <= 1e-10 * m as f64 {
+        // Two more terms that do not lower AICc end the search; so do an exact fit and the work
+        // limit.
+        if worse >= 2 || chi2 <= 1e-10 * m as f64 || evaluations >= MAX_SCAN_TOTAL {
             break;
         }
     }
