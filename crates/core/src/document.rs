@@ -53,14 +53,6 @@ impl Analysis {
         }
     }
 
-    /// Record `session` as the one that produced the document.
-    pub fn set_session(&mut self, session: Session) {
-        match self {
-            Analysis::Levels(r) => r.session = Some(session),
-            Analysis::Bands(r) => r.session = Some(session),
-        }
-    }
-
     /// Warnings of the document (for bands: the band-level ones; each state has its own).
     pub fn warnings(&self) -> &[String] {
         match self {

@@ -538,11 +538,10 @@ impl Workbench {
         };
         // The direct potential fit solves the radial equation hundreds of times (seconds in the
         // browser): until the page can show the rest first and run it after, the page analyses
-        // without it (the command line runs it). The document keeps the session as given.
+        // without it (the command line runs it), and its document records that setting.
         let mut quick = session.clone();
         quick.settings.potential_fit = false;
         let mut report = rungs_core::analyze_session(&quick, &mut hook).map_err(js_err)?;
-        report.set_session(session.clone());
         self.report_json = Some(report.to_json().map_err(js_err)?);
         let view = view_json(&mut report).map_err(js_err)?;
         self.report = Some(report);
