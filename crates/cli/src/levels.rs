@@ -119,13 +119,7 @@ pub fn run(args: &LevelsArgs) -> Result<String, String> {
         _ => OuterWall::Automatic,
     };
     let pot = PointwisePotential::new(&points, outer).map_err(|e| e.to_string())?;
-    let settings = SolverSettings {
-        j: args.j,
-        energy_max_cm1: args.energy_max,
-        tolerance_cm1: args.tolerance,
-        wavefunction_points: 0,
-        ..Default::default()
-    };
+    let settings = solver_settings(args);
     let set = solve_levels(&pot, args.mu, &settings).map_err(|e| e.to_string())?;
     let min = pot.minimum();
     Ok(match args.format {
@@ -208,17 +202,22 @@ pub fn run(args: &LevelsArgs) -> Result<String, String> {
     })
 }
 
-/// Levels of a Morse/long-range curve read from JSON (see [`LevelsArgs::file`]).
-fn mlr_levels(args: &LevelsArgs, text: &str) -> Result<String, String> {
-    let curve = rungs_core::potential::mlr::curve_from_json(text)
-        .map_err(|e| format!("{}: {e}", args.file.display()))?;
-    let settings = SolverSettings {
+/// The solver settings the arguments ask for (no wavefunctions: only levels are printed).
+fn solver_settings(args: &LevelsArgs) -> SolverSettings {
+    SolverSettings {
         j: args.j,
         energy_max_cm1: args.energy_max,
         tolerance_cm1: args.tolerance,
         wavefunction_points: 0,
         ..Default::default()
-    };
+    }
+}
+
+/// Levels of a Morse/long-range curve read from JSON (see [`LevelsArgs::file`]).
+fn mlr_levels(args: &LevelsArgs, text: &str) -> Result<String, String> {
+    let curve = rungs_core::potential::mlr::curve_from_json(text)
+        .map_err(|e| format!("{}: {e}", args.file.display()))?;
+    let settings = solver_settings(args);
     let set = solve_levels(&curve, args.mu, &settings).map_err(|e| e.to_string())?;
     Ok(match args.format {
         Format::Json => {

@@ -22,6 +22,8 @@ const METHOD_IDS: &[&str] = &[
     "leroy-bernstein-n-free",
     "leroy-bernstein-alt-levels",
     "near-dissociation-expansion",
+    "potential-fit-mlr",
+    "potential-fit-mlr-cn-fixed",
     "monte-carlo",
 ];
 

@@ -507,11 +507,7 @@ pub fn start(spec: &DpfSpec, we_cm1: f64, wexe_cm1: f64, top_above_min_cm1: f64)
     let n_eff = -re * (probe.u_lr(re + h).ln() - probe.u_lr(re - h).ln()) / (2.0 * h);
     let a = we_cm1 / (2.0 * (C_U_CM1_U_A2 * de / spec.mu_u).sqrt());
     let beta_re = (a - n_eff / re) * 2.0 * re / f64::from(spec.p);
-    let y = |x: f64, k: u32| {
-        let (a, b) = (re.powi(k as i32), x.powi(k as i32));
-        (a - b) / (a + b)
-    };
-    let y_ref = y(spec.r_ref_angstrom, spec.p);
+    let y_ref = super::mlr::radial_variable(re, spec.r_ref_angstrom, spec.p);
     let beta0 = (beta_re - probe.beta_inf() * y_ref) / (1.0 - y_ref);
     (de, beta0)
 }

@@ -51,6 +51,12 @@ pub struct Mlr {
     pub damping_b_per_angstrom: Option<f64>,
 }
 
+/// The radial variable y_k^x(r) = (r^k − x^k)/(r^k + x^k) of the MLR form.
+pub fn radial_variable(r: f64, x: f64, k: u32) -> f64 {
+    let (a, b) = (r.powi(k as i32), x.powi(k as i32));
+    (a - b) / (a + b)
+}
+
 /// Radial variables and parts of V at one r (shared by V and its derivatives).
 struct Parts {
     /// A(r) = (u/u_e)·exp(−β y_p^eq).
@@ -144,10 +150,7 @@ impl Mlr {
     }
 
     fn parts(&self, r: f64) -> Parts {
-        let y = |x: f64, k: u32| {
-            let (a, b) = (r.powi(k as i32), x.powi(k as i32));
-            (a - b) / (a + b)
-        };
+        let y = |x: f64, k: u32| radial_variable(r, x, k);
         let y_eq = y(self.re_angstrom, self.p);
         let y_ref = y(self.r_ref_angstrom, self.p);
         let y_q = y(self.r_ref_angstrom, self.q);
